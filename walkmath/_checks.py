@@ -1,0 +1,92 @@
+"""Entry-point validation shared by every public function.
+
+Each check raises ``ValueError`` whose message names the parameter and the
+allowed range, so a form, the API or an upload can show it to the user as is.
+"""
+
+from __future__ import annotations
+
+import math
+from numbers import Integral, Real
+
+import numpy as np
+
+# Largest number of periods any single computation accepts. Beyond this a
+# caller should use the long-horizon path (``BandedWalk.outlook_at``).
+HORIZON_CAP = 10_000_000
+
+# Probability vectors may sum to 1 within this tolerance; they are renormalised.
+SUM_TOLERANCE = 1e-9
+
+
+def whole(name: str, value, *, minimum: int | None = None, maximum: int | None = None) -> int:
+    """Return ``value`` as an ``int`` or raise naming ``name`` and the range."""
+    if isinstance(value, bool) or not isinstance(value, (Integral, Real)):
+        raise ValueError(f"{name} must be a whole number{_range(minimum, maximum)}; got {value!r}")
+    if isinstance(value, Real) and not isinstance(value, Integral):
+        if not math.isfinite(value) or value != int(value):
+            raise ValueError(f"{name} must be a whole number{_range(minimum, maximum)}; got {value!r}")
+    value = int(value)
+    if (minimum is not None and value < minimum) or (maximum is not None and value > maximum):
+        raise ValueError(f"{name} must be a whole number{_range(minimum, maximum)}; got {value}")
+    return value
+
+
+def real(
+    name: str,
+    value,
+    *,
+    minimum: float | None = None,
+    maximum: float | None = None,
+    strict_minimum: bool = False,
+) -> float:
+    """Return ``value`` as a finite ``float`` or raise naming ``name`` and the range."""
+    low = "above" if strict_minimum else "at least"
+    if isinstance(value, bool) or not isinstance(value, Real) or not math.isfinite(float(value)):
+        raise ValueError(f"{name} must be a finite number{_span(minimum, maximum, low)}; got {value!r}")
+    value = float(value)
+    too_low = minimum is not None and (value <= minimum if strict_minimum else value < minimum)
+    if too_low or (maximum is not None and value > maximum):
+        raise ValueError(f"{name} must be a finite number{_span(minimum, maximum, low)}; got {value!r}")
+    return value
+
+
+def probability(name: str, value) -> float:
+    return real(name, value, minimum=0.0, maximum=1.0)
+
+
+def probability_vector(name: str, values) -> np.ndarray:
+    """Non-negative finite weights summing to 1 within ``SUM_TOLERANCE``; renormalised."""
+    weights = np.asarray(values, dtype=float)
+    if weights.ndim != 1 or weights.size == 0:
+        raise ValueError(f"{name} must be a non-empty list of probabilities")
+    if not np.all(np.isfinite(weights)) or np.any(weights < 0):
+        raise ValueError(f"{name} must hold probabilities between 0 and 1")
+    total = math.fsum(weights)
+    if abs(total - 1.0) > SUM_TOLERANCE:
+        raise ValueError(f"{name} must sum to 1 (within {SUM_TOLERANCE:g}); they sum to {total:.12g}")
+    return weights / total
+
+
+def horizon(value, name: str = "horizon") -> int:
+    return whole(name, value, minimum=0, maximum=HORIZON_CAP)
+
+
+def choice(name: str, value, allowed: tuple[str, ...]) -> str:
+    if value not in allowed:
+        raise ValueError(f"{name} must be one of {', '.join(repr(a) for a in allowed)}; got {value!r}")
+    return value
+
+
+def _range(minimum, maximum) -> str:
+    return _span(minimum, maximum, "at least")
+
+
+def _span(minimum, maximum, low: str) -> str:
+    if minimum is not None and maximum is not None:
+        return f" from {minimum} to {maximum}"
+    if minimum is not None:
+        return f" {low} {minimum}"
+    if maximum is not None:
+        return f" at most {maximum}"
+    return ""
