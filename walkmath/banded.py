@@ -1,0 +1,257 @@
+"""Walks in a band: stock-out and overflow risk period by period.
+
+The one-period transition operator of a step law is a band matrix (width = the
+number of possible steps), so every update here is a handful of shifted,
+scaled vector additions over the levels that can hold mass, never a dense
+matrix. Stopped mass is accumulated as a sum of non-negative terms, which keeps
+small risks (1e-25 and below) to full relative precision.
+
+Meaning of every number: see the project's design notes, section 3. In short, a
+stock-out happens in a period where the level would fall below ``low``, an
+overflow where it would rise above ``high``; ``stockout[n]`` and
+``overflow[n]`` are first-passage probabilities (at least one event in periods
+1..n) under the walk's rules.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from functools import cached_property
+
+import numpy as np
+
+from walkmath import _checks
+from walkmath.distribution import LevelDistribution
+from walkmath.steplaw import StepLaw, as_cycle
+
+BELOW_RULES = ("backorder", "lost", "stop")
+ABOVE_RULES = ("spill", "stop")
+
+# Largest levels x periods one outlook or sweep accepts (about 5 s on one core).
+COMPUTE_CAP = 200_000_000
+
+
+class ComputeTooLarge(ValueError):
+    """The requested levels x periods exceeds ``COMPUTE_CAP``."""
+
+
+@dataclass(frozen=True, eq=False)
+class Outlook:
+    """Period-by-period results of ``BandedWalk.outlook``; arrays have length horizon + 1."""
+
+    horizon: int
+    levels: np.ndarray
+    stockout: np.ndarray
+    overflow: np.ndarray
+    alive: np.ndarray
+    lost_units: np.ndarray
+    spilled_units: np.ndarray
+    stockout_periods: np.ndarray
+    final: LevelDistribution
+    _walk: BandedWalk = field(repr=False)
+
+    @cached_property
+    def level_probs(self) -> np.ndarray:
+        """level_probs[n, i] = P(level_n = levels[i], path not stopped).
+
+        Computed on first access by a second sweep that keeps every period:
+        allocates (horizon + 1) x len(levels) floats.
+        """
+        return self._walk._sweep(self.horizon, keep_levels=True).levels_by_period
+
+    def level_law(self, period: int) -> LevelDistribution:
+        """Level law at ``period`` for paths not stopped (sub-probability when a rule stops paths)."""
+        period = _checks.whole("period", period, minimum=0, maximum=self.horizon)
+        return LevelDistribution(self.levels, self.level_probs[period])
+
+
+@dataclass(frozen=True, eq=False)
+class StartRisk:
+    """Risk at the horizon for every start level: ``stockout[i]`` from start ``starts[i]``."""
+
+    horizon: int
+    starts: np.ndarray
+    stockout: np.ndarray
+    overflow: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class _Sweep:
+    levels: np.ndarray
+    stockout: np.ndarray
+    overflow: np.ndarray
+    alive: np.ndarray
+    lost_units: np.ndarray
+    spilled_units: np.ndarray
+    stockout_periods: np.ndarray
+    final: np.ndarray
+    levels_by_period: np.ndarray | None
+
+
+class BandedWalk:
+    """An integer walk started at ``start`` in the band ``low``..``high`` (``high=None``: no capacity).
+
+    ``below``: "backorder" (keeps walking below low), "lost" (set to low; the
+    shortfall is lost), "stop" (the path ends). ``above``: "spill" (set to
+    high; the excess is spilled) or "stop". ``law`` is a StepLaw or a list of
+    them applied cyclically, one per period (period n uses law[(n - 1) % len]).
+    """
+
+    def __init__(self, law, start: int, low: int = 0, high: int | None = None, below="stop", above="spill"):
+        self.laws = as_cycle(law)
+        self.low = _checks.whole("low", low)
+        self.high = None if high is None else _checks.whole("high", high)
+        if self.high is not None and self.high < self.low:
+            raise ValueError(f"high (capacity) must be at least low ({self.low}); got {self.high}")
+        upper = "" if self.high is None else f" and at most high ({self.high})"
+        self.start = _checks.whole("start", start)
+        if self.start < self.low or (self.high is not None and self.start > self.high):
+            raise ValueError(f"start must be at least low ({self.low}){upper}; got {self.start}")
+        self.below = _checks.choice("below", below, BELOW_RULES)
+        self.above = _checks.choice("above", above, ABOVE_RULES)
+        self.max_down = max(0, -min(law.lowest for law in self.laws))
+        self.max_up = max(0, max(law.highest for law in self.laws))
+
+    def __repr__(self) -> str:
+        return (
+            f"BandedWalk(start={self.start}, low={self.low}, high={self.high}, "
+            f"below={self.below!r}, above={self.above!r}, laws={len(self.laws)})"
+        )
+
+    def law_for_period(self, period: int) -> StepLaw:
+        return self.laws[(period - 1) % len(self.laws)]
+
+    # -- forward: outlook from the start level --------------------------------
+
+    def outlook(self, horizon: int) -> Outlook:
+        """Stock-out and overflow curves, expected lost/spilled units, stock-out periods.
+
+        Banded forward updates over the levels that can hold mass; O(horizon x
+        levels x steps) time, O(levels) memory (the per-period level law is only
+        built when ``level_probs`` is read).
+        """
+        horizon = _checks.horizon(horizon)
+        sweep = self._sweep(horizon, keep_levels=False)
+        return Outlook(
+            horizon=horizon,
+            levels=sweep.levels,
+            stockout=sweep.stockout,
+            overflow=sweep.overflow,
+            alive=sweep.alive,
+            lost_units=sweep.lost_units,
+            spilled_units=sweep.spilled_units,
+            stockout_periods=sweep.stockout_periods,
+            final=LevelDistribution(sweep.levels, sweep.final),
+            _walk=self,
+        )
+
+    def _grid(self, horizon: int, start: int) -> tuple[int, int]:
+        """Lowest and highest level the walk can occupy (bounded band, or reach within the horizon)."""
+        lowest = self.low if self.below != "backorder" else min(self.low, start - horizon * self.max_down)
+        highest = self.high if self.high is not None else max(start, start + horizon * self.max_up)
+        return lowest, highest
+
+    def _check_size(self, levels: int, horizon: int) -> None:
+        if levels * max(horizon, 1) > COMPUTE_CAP:
+            raise ComputeTooLarge(
+                f"levels x periods must be at most {COMPUTE_CAP:,}; this walk needs {levels:,} levels x "
+                f"{horizon:,} periods. Shorten the horizon, narrow the band or coarsen the units."
+            )
+
+    def _sweep(self, horizon: int, keep_levels: bool) -> _Sweep:
+        grid_low, grid_high = self._grid(horizon, self.start)
+        size = grid_high - grid_low + 1
+        self._check_size(size, horizon)
+        # Pad so one period's steps never leave the array; out-of-band mass is settled after each step.
+        pad_low, pad_high = self.max_down, self.max_up
+        width = size + pad_low + pad_high
+        band_lo = self.low - grid_low + pad_low  # index of level ``low``
+        band_hi = None if self.high is None else self.high - grid_low + pad_low
+
+        # Rows: 0 = the walk under its own rules; then, where a rule does not stop paths,
+        # a copy that stops at that event so its first passage can be counted.
+        rows = [(self.below, self.above)]
+        stockout_row = 0 if self.below == "stop" else _add(rows, ("stop", self.above))
+        overflow_row = 0 if self.above == "stop" else _add(rows, (self.below, "stop"))
+        mass = np.zeros((len(rows), width))
+        mass[:, self.start - grid_low + pad_low] = 1.0
+        stop_below = np.array([r[0] == "stop" for r in rows])
+        lost_below = np.array([r[0] == "lost" for r in rows])
+        stop_above = np.array([r[1] == "stop" for r in rows])
+
+        curves = np.zeros((6, horizon + 1))  # stockout, overflow, stockout events, lost, spilled, alive
+        curves[5, 0] = 1.0
+        stopped_low = np.zeros(len(rows))
+        stopped_high = np.zeros(len(rows))
+        by_period = np.zeros((horizon + 1, size)) if keep_levels else None
+        if keep_levels:
+            by_period[0] = mass[0, pad_low : pad_low + size]
+        reach_lo = reach_hi = self.start - grid_low + pad_low  # indices that may hold mass
+        below_depth = np.arange(band_lo, 0, -1, dtype=float)  # low - level for indices 0..band_lo-1
+        shortfall_weights = below_depth if self.below == "lost" else None
+        scratch = np.empty_like(mass)
+
+        for period in range(1, horizon + 1):
+            law = self.law_for_period(period)
+            lo = max(reach_lo + law.lowest, 0)
+            hi = min(reach_hi + law.highest, width - 1)
+            scratch[:, lo : hi + 1] = 0.0
+            for offset, weight in enumerate(law.probs):
+                if weight == 0.0:
+                    continue
+                step = law.lowest + offset
+                scratch[:, reach_lo + step : reach_hi + step + 1] += weight * mass[:, reach_lo : reach_hi + 1]
+            mass[:, reach_lo : reach_hi + 1] = 0.0
+            mass[:, lo : hi + 1] = scratch[:, lo : hi + 1]
+            # settle mass below ``low``
+            if lo < band_lo:
+                under = mass[:, lo:band_lo]
+                fell = under.sum(axis=1)
+                event_rows = fell  # for backorder rows this is the backlog mass: a stock-out period
+                if self.below == "lost":
+                    curves[3, period] = float(under[0] @ shortfall_weights[lo:band_lo])
+                stopped_low += np.where(stop_below, fell, 0.0)
+                settle = stop_below | lost_below
+                mass[lost_below, band_lo] += fell[lost_below]
+                mass[settle, lo:band_lo] = 0.0
+                curves[2, period] = event_rows[0]
+                if self.below != "backorder":
+                    lo = band_lo
+            # settle mass above ``high``
+            if band_hi is not None and hi > band_hi:
+                over = mass[:, band_hi + 1 : hi + 1]
+                rose = over.sum(axis=1)
+                if self.above == "spill":
+                    curves[4, period] = float(over[0] @ np.arange(1, hi - band_hi + 1, dtype=float))
+                stopped_high += np.where(stop_above, rose, 0.0)
+                mass[~stop_above, band_hi] += rose[~stop_above]
+                mass[:, band_hi + 1 : hi + 1] = 0.0
+                hi = band_hi
+            reach_lo, reach_hi = lo, hi
+            curves[0, period] = stopped_low[stockout_row]
+            curves[1, period] = stopped_high[overflow_row]
+            curves[5, period] = math.fsum(mass[0, reach_lo : reach_hi + 1])
+            if keep_levels:
+                by_period[period] = mass[0, pad_low : pad_low + size]
+
+        if self.below != "stop":
+            curves[2, 1:] = np.cumsum(curves[2, 1:])
+        else:
+            curves[2] = curves[0]
+        return _Sweep(
+            levels=np.arange(grid_low, grid_high + 1),
+            stockout=curves[0],
+            overflow=curves[1],
+            alive=np.minimum(curves[5], 1.0),
+            lost_units=curves[3],
+            spilled_units=curves[4],
+            stockout_periods=curves[2],
+            final=mass[0, pad_low : pad_low + size].copy(),
+            levels_by_period=by_period,
+        )
+
+
+def _add(rows: list, row: tuple[str, str]) -> int:
+    rows.append(row)
+    return len(rows) - 1
