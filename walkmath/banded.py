@@ -21,7 +21,7 @@ from functools import cached_property
 
 import numpy as np
 
-from walkmath import _checks
+from walkmath import _checks, risk
 from walkmath.distribution import LevelDistribution
 from walkmath.steplaw import StepLaw, as_cycle
 
@@ -250,6 +250,29 @@ class BandedWalk:
             final=mass[0, pad_low : pad_low + size].copy(),
             levels_by_period=by_period,
         )
+
+
+    # -- backward: every start level, buffer sizing, mean times ---------------
+
+    def risk_by_start(self, horizon: int, top: int | None = None) -> StartRisk:
+        """Risk at ``horizon`` for every start level low..top, by one backward banded sweep."""
+        return risk.risk_by_start(self, horizon, top)
+
+    def smallest_start(self, horizon: int, stockout_target: float, overflow_target: float | None = None):
+        """Smallest start level meeting the targets at ``horizon`` (None if none does)."""
+        return risk.smallest_start(self, horizon, stockout_target, overflow_target)
+
+    def smallest_capacity(self, horizon: int, overflow_target: float, stockout_target: float | None = None):
+        """Smallest capacity (at least the start) meeting the targets at ``horizon`` (None if none does)."""
+        return risk.smallest_capacity(self, horizon, overflow_target, stockout_target)
+
+    def mean_periods_to_exit(self) -> float:
+        """E[first period with a stock-out or an overflow]; inf if not certain (banded linear solve)."""
+        return risk.mean_periods_to_exit(self, overflow_ends=True)
+
+    def mean_periods_to_stockout(self) -> float:
+        """E[first period with a stock-out]; inf if not certain (banded linear solve)."""
+        return risk.mean_periods_to_exit(self, overflow_ends=False)
 
 
 def _add(rows: list, row: tuple[str, str]) -> int:

@@ -1,0 +1,223 @@
+"""Risk for every start level, smallest buffers, and mean times to a stock-out.
+
+* ``risk_by_start``: one backward sweep u_{n} = P u_{n-1} of the same banded
+  operator the forward outlook uses, so the risk at the horizon comes out for
+  every start level at once.
+* ``smallest_start`` / ``smallest_capacity``: searches on those risks, which are
+  monotone in the start level and in the capacity (coupling argument: a walk
+  started higher stays higher, path by path).
+* ``mean_periods_to_exit`` / ``mean_periods_to_stockout``: the linear system
+  (I - Q) t = 1 on the band, Q the sub-stochastic one-period operator, solved
+  as a band matrix (``scipy.linalg.solve_banded``); a cyclic law (period-
+  dependent steps) uses a sparse system over (phase, level).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING
+
+import numpy as np
+from scipy import linalg, sparse
+from scipy.sparse import linalg as sparse_linalg
+
+from walkmath import _checks
+
+if TYPE_CHECKING:
+    from walkmath.banded import BandedWalk, StartRisk
+
+# Levels added above the start, when there is no capacity, before a mean time to
+# stock-out is accepted as converged (the mass that far up is negligible).
+_MEAN_TIME_TOLERANCE = 1e-12
+
+
+def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> StartRisk:
+    """Stock-out and overflow risk at ``horizon`` for every start level low..top (one backward sweep).
+
+    Without a capacity, ``top`` defaults to the lowest level from which a
+    stock-out within the horizon is impossible (low + horizon x largest
+    down-step), or less when the risk there is already negligible.
+    """
+    from walkmath.banded import StartRisk
+
+    horizon = _checks.horizon(horizon)
+    if top is None:
+        top = walk.high if walk.high is not None else _default_top(walk, horizon)
+    top = _checks.whole("top", top, minimum=walk.low, maximum=walk.high)
+    grid_low = walk.low - (horizon * walk.max_down if walk.below == "backorder" else 0)
+    grid_high = walk.high if walk.high is not None else top + horizon * walk.max_up
+    size = grid_high - grid_low + 1
+    walk._check_size(size, horizon)
+    band_lo = walk.low - grid_low
+    stockout = np.zeros(size)
+    stockout[:band_lo] = 1.0  # backorder grid: levels under low have already stocked out
+    overflow = np.zeros(size)
+    pad_low, pad_high = walk.max_down, walk.max_up
+    padded = np.zeros((2, size + pad_low + pad_high))
+    for period in range(horizon, 0, -1):
+        law = walk.law_for_period(period)
+        _pad(padded[0], stockout, pad_low, pad_high, below_value=1.0, above=_above_value(walk, stockout, 0.0))
+        below_value = 0.0 if walk.below == "stop" else overflow[band_lo]  # lost: continue from low
+        _pad(padded[1], overflow, pad_low, pad_high, below_value=below_value, above=1.0)
+        fresh = np.zeros((2, size))
+        for offset, weight in enumerate(law.probs):
+            if weight:
+                step = law.lowest + offset
+                fresh += weight * padded[:, pad_low + step : pad_low + step + size]
+        stockout, overflow = fresh
+        stockout[:band_lo] = 1.0  # for overflow, levels under low walk on
+    starts = np.arange(walk.low, top + 1)
+    rows = starts - grid_low
+    return StartRisk(horizon=horizon, starts=starts, stockout=stockout[rows], overflow=overflow[rows])
+
+
+def _default_top(walk: BandedWalk, horizon: int) -> int:
+    certain_safe = walk.low + horizon * walk.max_down
+    mean = sum(law.mean for law in walk.laws) / len(walk.laws)
+    spread = math.sqrt(max(sum(law.variance for law in walk.laws) / len(walk.laws), 1e-12) * horizon)
+    plausible = walk.low + int(math.ceil(horizon * max(-mean, 0.0) + 40.0 * spread + 10))
+    return max(walk.start, min(certain_safe, plausible))
+
+
+def _above_value(walk: BandedWalk, values: np.ndarray, stop_value: float):
+    return stop_value if walk.above == "stop" or walk.high is None else values[-1]
+
+
+def _pad(out: np.ndarray, values: np.ndarray, pad_low: int, pad_high: int, *, below_value, above) -> None:
+    out[:pad_low] = below_value
+    out[pad_low : pad_low + values.size] = values
+    out[pad_low + values.size :] = above
+
+
+def smallest_start(
+    walk: BandedWalk, horizon: int, stockout_target: float, overflow_target: float | None = None
+) -> int | None:
+    """Smallest start level whose stock-out risk (and overflow risk, if given) at the horizon meets the targets."""
+    stockout_target = _checks.probability("stockout_target", stockout_target)
+    if overflow_target is not None:
+        overflow_target = _checks.probability("overflow_target", overflow_target)
+    risk = risk_by_start(walk, horizon)
+    meets = risk.stockout <= stockout_target
+    if overflow_target is not None:
+        meets &= risk.overflow <= overflow_target
+    return int(risk.starts[np.argmax(meets)]) if meets.any() else None
+
+
+def smallest_capacity(
+    walk: BandedWalk, horizon: int, overflow_target: float, stockout_target: float | None = None
+) -> int | None:
+    """Smallest capacity (``high``, at least the start) meeting the overflow target at the horizon.
+
+    Bisection on capacity, one forward outlook per probe (about log2(horizon x
+    largest up-step) outlooks). With ``stockout_target`` the stock-out risk must
+    be met too; under ``above="spill"`` it can only fall as capacity grows.
+    """
+    from walkmath.banded import BandedWalk
+
+    horizon = _checks.horizon(horizon)
+    overflow_target = _checks.probability("overflow_target", overflow_target)
+    if stockout_target is not None:
+        stockout_target = _checks.probability("stockout_target", stockout_target)
+
+    def meets(capacity: int) -> bool:
+        probe = BandedWalk(walk.laws, walk.start, walk.low, capacity, walk.below, walk.above).outlook(horizon)
+        ok = probe.overflow[-1] <= overflow_target
+        return ok and (stockout_target is None or probe.stockout[-1] <= stockout_target)
+
+    lowest, highest = walk.start, walk.start + horizon * walk.max_up  # no overflow is possible at ``highest``
+    if not meets(highest):
+        return None
+    while lowest < highest:
+        middle = (lowest + highest) // 2
+        if meets(middle):
+            highest = middle
+        else:
+            lowest = middle + 1
+    return lowest
+
+
+def mean_periods_to_exit(walk: BandedWalk, *, overflow_ends: bool = True) -> float:
+    """E[first period with a stock-out (or an overflow, if ``overflow_ends``)]; inf if not certain.
+
+    Banded linear solve of (I - Q) t = 1 over the band. Without a capacity the
+    band is cut at a top level where the walk is held (a lower bound) and the
+    cut doubled until the answer moves by less than 1e-12 relative.
+    """
+    if walk.high is not None:
+        if overflow_ends:
+            return _mean_time(walk, walk.high, ends_above=True)
+        if walk.above == "stop" and walk.max_up > 0:
+            return math.inf  # an overflow may end the path first: a stock-out is not certain
+        return _mean_time(walk, walk.high, ends_above=False)
+    drift = sum(law.mean for law in walk.laws) / len(walk.laws)
+    if drift >= 0:
+        return math.inf  # no capacity, no downward drift: no finite mean time to a stock-out
+    top = walk.start + 64 * max(walk.max_up + walk.max_down, 1)
+    previous = _mean_time(walk, top, ends_above=False)
+    while top - walk.start < 2**22:
+        top = walk.start + 2 * (top - walk.start)
+        current = _mean_time(walk, top, ends_above=False)
+        if abs(current - previous) <= _MEAN_TIME_TOLERANCE * current:
+            return current
+        previous = current
+    return current
+
+
+def _mean_time(walk: BandedWalk, top: int, ends_above: bool) -> float:
+    """Mean time to leave low..top from the start; above ``top`` the path ends or is held at ``top``."""
+    size = top - walk.low + 1
+    walk._check_size(size * len(walk.laws), 1)
+    if len(walk.laws) == 1:
+        bands = _banded_system(walk.laws[0], size, ends_above)
+        try:
+            times = linalg.solve_banded((walk.max_down, walk.max_up), bands, np.ones(size))
+        except (linalg.LinAlgError, ValueError):
+            return math.inf
+    else:
+        system = _cyclic_system(walk.laws, size, ends_above).tocsc()
+        with np.errstate(all="ignore"):
+            times = sparse_linalg.spsolve(system, np.ones(system.shape[0]))
+    value = float(times[walk.start - walk.low])
+    if not math.isfinite(value) or value <= 0 or value > 1e15:
+        return math.inf  # singular or nearly so: the walk can stay in the band forever
+    return value
+
+
+def _banded_system(law, size: int, ends_above: bool) -> np.ndarray:
+    """(I - Q) in scipy's diagonal-ordered band form; row i, column i + step holds -P(step)."""
+    upper, lower = max(law.highest, 0), max(-law.lowest, 0)
+    bands = np.zeros((upper + lower + 1, size))
+    bands[upper] = 1.0
+    for offset, weight in enumerate(law.probs):
+        step = law.lowest + offset
+        if weight == 0.0:
+            continue
+        rows = np.arange(size)
+        cols = rows + step
+        inside = (cols >= 0) & (cols < size)
+        bands[upper - step, cols[inside]] -= weight
+        if not ends_above and step > 0:
+            spilled = cols >= size  # spill: the step lands on the top level
+            np.add.at(bands, (upper - (size - 1 - rows[spilled]), np.full(spilled.sum(), size - 1)), -weight)
+    return bands
+
+
+def _cyclic_system(laws, size: int, ends_above: bool) -> sparse.coo_matrix:
+    """(I - Q) over states (phase, level); phase k moves with laws[k] to phase k + 1 (mod len)."""
+    phases = len(laws)
+    rows, cols, values = [np.arange(phases * size)], [np.arange(phases * size)], [np.ones(phases * size)]
+    levels = np.arange(size)
+    for phase, law in enumerate(laws):
+        nxt = (phase + 1) % phases
+        for offset, weight in enumerate(law.probs):
+            step = law.lowest + offset
+            target = levels + step
+            if not ends_above:
+                target = np.minimum(target, size - 1)
+            keep = (target >= 0) & (target < size) & (weight > 0)
+            rows.append(phase * size + levels[keep])
+            cols.append(nxt * size + target[keep])
+            values.append(np.full(keep.sum(), -weight))
+    return sparse.coo_matrix(
+        (np.concatenate(values), (np.concatenate(rows), np.concatenate(cols))), shape=(phases * size,) * 2
+    )
