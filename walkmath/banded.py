@@ -21,7 +21,7 @@ from functools import cached_property
 
 import numpy as np
 
-from walkmath import _checks, risk
+from walkmath import _checks, longrun, risk
 from walkmath.distribution import LevelDistribution
 from walkmath.steplaw import StepLaw, as_cycle
 
@@ -251,6 +251,10 @@ class BandedWalk:
             levels_by_period=by_period,
         )
 
+
+    def outlook_at(self, periods) -> longrun.LongOutlook:
+        """Stock-out and overflow risk at chosen periods, up to 10**7, by operator squaring (bounded bands)."""
+        return longrun.long_outlook(self, periods)
 
     # -- backward: every start level, buffer sizing, mean times ---------------
 
