@@ -23,9 +23,8 @@ def whole(name: str, value, *, minimum: int | None = None, maximum: int | None =
     """Return ``value`` as an ``int`` or raise naming ``name`` and the range."""
     if isinstance(value, bool) or not isinstance(value, (Integral, Real)):
         raise ValueError(f"{name} must be a whole number{_range(minimum, maximum)}; got {value!r}")
-    if isinstance(value, Real) and not isinstance(value, Integral):
-        if not math.isfinite(value) or value != int(value):
-            raise ValueError(f"{name} must be a whole number{_range(minimum, maximum)}; got {value!r}")
+    if not isinstance(value, Integral) and (not math.isfinite(value) or value != int(value)):
+        raise ValueError(f"{name} must be a whole number{_range(minimum, maximum)}; got {value!r}")
     value = int(value)
     if (minimum is not None and value < minimum) or (maximum is not None and value > maximum):
         raise ValueError(f"{name} must be a whole number{_range(minimum, maximum)}; got {value}")

@@ -188,14 +188,15 @@ class BandedWalk:
         if keep_levels:
             by_period[0] = mass[0, pad_low : pad_low + size]
         reach_lo = reach_hi = self.start - grid_low + pad_low  # indices that may hold mass
-        below_depth = np.arange(band_lo, 0, -1, dtype=float)  # low - level for indices 0..band_lo-1
-        shortfall_weights = below_depth if self.below == "lost" else None
+        shortfall = np.arange(band_lo, 0, -1, dtype=float)  # low - level at indices 0..band_lo - 1
         scratch = np.empty_like(mass)
 
         for period in range(1, horizon + 1):
+            if reach_lo > reach_hi:  # every path has stopped: the curves stay where they are
+                curves[:2, period] = curves[:2, period - 1]
+                continue
             law = self.law_for_period(period)
-            lo = max(reach_lo + law.lowest, 0)
-            hi = min(reach_hi + law.highest, width - 1)
+            lo, hi = reach_lo + law.lowest, reach_hi + law.highest
             scratch[:, lo : hi + 1] = 0.0
             for offset, weight in enumerate(law.probs):
                 if weight == 0.0:
@@ -204,26 +205,24 @@ class BandedWalk:
                 scratch[:, reach_lo + step : reach_hi + step + 1] += weight * mass[:, reach_lo : reach_hi + 1]
             mass[:, reach_lo : reach_hi + 1] = 0.0
             mass[:, lo : hi + 1] = scratch[:, lo : hi + 1]
-            # settle mass below ``low``
-            if lo < band_lo:
+            if lo < band_lo:  # settle mass below ``low``
                 under = mass[:, lo:band_lo]
-                fell = under.sum(axis=1)
-                event_rows = fell  # for backorder rows this is the backlog mass: a stock-out period
+                fell = under.sum(axis=1)  # for a backorder row this is the backlog: a stock-out period
+                curves[2, period] = fell[0]
                 if self.below == "lost":
-                    curves[3, period] = float(under[0] @ shortfall_weights[lo:band_lo])
+                    curves[3, period] = float(under[0] @ shortfall[lo:band_lo])
+                    hi = max(hi, band_lo)
                 stopped_low += np.where(stop_below, fell, 0.0)
-                settle = stop_below | lost_below
                 mass[lost_below, band_lo] += fell[lost_below]
-                mass[settle, lo:band_lo] = 0.0
-                curves[2, period] = event_rows[0]
+                mass[stop_below | lost_below, lo:band_lo] = 0.0
                 if self.below != "backorder":
                     lo = band_lo
-            # settle mass above ``high``
-            if band_hi is not None and hi > band_hi:
+            if band_hi is not None and hi > band_hi:  # settle mass above ``high``
                 over = mass[:, band_hi + 1 : hi + 1]
                 rose = over.sum(axis=1)
                 if self.above == "spill":
                     curves[4, period] = float(over[0] @ np.arange(1, hi - band_hi + 1, dtype=float))
+                    lo = min(lo, band_hi)
                 stopped_high += np.where(stop_above, rose, 0.0)
                 mass[~stop_above, band_hi] += rose[~stop_above]
                 mass[:, band_hi + 1 : hi + 1] = 0.0
@@ -231,7 +230,7 @@ class BandedWalk:
             reach_lo, reach_hi = lo, hi
             curves[0, period] = stopped_low[stockout_row]
             curves[1, period] = stopped_high[overflow_row]
-            curves[5, period] = math.fsum(mass[0, reach_lo : reach_hi + 1])
+            curves[5, period] = math.fsum(mass[0, reach_lo : reach_hi + 1]) if lo <= hi else 0.0
             if keep_levels:
                 by_period[period] = mass[0, pad_low : pad_low + size]
 
@@ -250,7 +249,6 @@ class BandedWalk:
             final=mass[0, pad_low : pad_low + size].copy(),
             levels_by_period=by_period,
         )
-
 
     def outlook_at(self, periods) -> longrun.LongOutlook:
         """Stock-out and overflow risk at chosen periods, up to 10**7, by operator squaring (bounded bands)."""

@@ -164,9 +164,7 @@ def _tilted_power(law: StepLaw, times: int) -> np.ndarray:
         if stop == 0:  # no progress (cannot happen for spread >= 1/8): decide one position directly
             stop, genuine[0] = 1, values[0] > 0
         chosen = positions[:stop][genuine[:stop]]
-        logs[chosen] = (
-            np.log(window[chosen % size]) + times * log_g - (chosen + times * law.lowest) * log_theta
-        )
+        logs[chosen] = np.log(window[chosen % size]) + times * log_g - (chosen + times * law.lowest) * log_theta
         covered = int(positions[stop - 1]) + 1
     return np.exp(logs)
 

@@ -41,9 +41,7 @@ def long_outlook(walk: BandedWalk, periods) -> LongOutlook:
     if wanted.size == 0:
         raise ValueError("periods must hold at least one period")
     if walk.high is None or walk.below == "backorder":
-        raise ValueError(
-            "long horizons need a bounded band: set high (capacity) and a below rule of 'lost' or 'stop'"
-        )
+        raise ValueError("long horizons need a bounded band: set high (capacity) and a below rule of 'lost' or 'stop'")
     size = walk.high - walk.low + 1
     if size > DENSE_LEVELS:
         raise ValueError(f"long horizons take bands of at most {DENSE_LEVELS} levels; this band has {size}")

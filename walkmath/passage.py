@@ -27,7 +27,9 @@ def first_stockout_times(law: StepLaw, start: int, low: int, horizon: int) -> np
     if not isinstance(law, StepLaw):
         raise ValueError("law must be a single StepLaw (the hitting-time theorem needs a fixed step law)")
     if law.lowest < -1:
-        raise ValueError(f"law must have down-steps of at most 1 for the hitting-time theorem; its lowest step is {law.lowest}")
+        raise ValueError(
+            f"law must have down-steps of at most 1 for the hitting-time theorem; its lowest step is {law.lowest}"
+        )
     low = _checks.whole("low", low)
     start = _checks.whole("start", start, minimum=low)
     horizon = _checks.horizon(horizon)

@@ -88,9 +88,8 @@ class StepLaw:
             raise ValueError(f"variance must exceed the mean ({mean:g}) for a negative binomial; got {variance:g}")
         success = mean / variance
         size = mean * mean / (variance - mean)
-        return cls._counts(
-            stats.nbinom(size, success), mean, math.sqrt(variance), f"negative_binomial(mean={mean:g}, variance={variance:g})"
-        )
+        label = f"negative_binomial(mean={mean:g}, variance={variance:g})"
+        return cls._counts(stats.nbinom(size, success), mean, math.sqrt(variance), label)
 
     @classmethod
     def binomial(cls, trials: int, p: float) -> StepLaw:

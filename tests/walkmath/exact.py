@@ -64,5 +64,11 @@ def banded_outlook(pmf, start, low, high, below, above, horizon):
     final: dict = {}
     for (level, _, _), w in states.items():
         final[level] = final.get(level, Fraction(0)) + w
-    return {"stockout": stockout, "overflow": overflow, "alive": alive, "lost": lost, "spilled": spilled,
-            "final": final}
+    return {
+        "stockout": stockout,
+        "overflow": overflow,
+        "alive": alive,
+        "lost": lost,
+        "spilled": spilled,
+        "final": final,
+    }

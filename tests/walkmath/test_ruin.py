@@ -1,0 +1,43 @@
+"""Gambler's-ruin closed forms against Feller's published values and the banded engine."""
+
+import pytest
+
+import walkmath as wm
+
+
+def test_feller_table_values():
+    # Feller vol. 1, ch. XIV, table 1: p = 0.45, z = 9, a = 10 -> ruin 0.210, duration 11.0
+    # (more digits: 0.2100562 and 11.00562, as quoted in the project's issue from the same table)
+    assert wm.ruin_probability(0.45, 0.55, 9, 10) == pytest.approx(0.2100562, abs=5e-8)
+    assert wm.expected_duration(0.45, 0.55, 9, 10) == pytest.approx(11.00562, abs=5e-6)
+
+
+def test_fair_game_closed_forms():
+    # p = q: ruin 1 - z / a, duration z (a - z) (Feller vol. 1, XIV (2.5) and (3.6))
+    assert wm.ruin_probability(0.5, 0.5, 3, 10) == pytest.approx(0.7, rel=1e-15)
+    assert wm.expected_duration(0.5, 0.5, 3, 10) == pytest.approx(21.0, rel=1e-15)
+    # staying in place stretches the duration by 1 / (up + down) and leaves the ruin unchanged
+    assert wm.expected_duration(0.25, 0.25, 3, 10) == pytest.approx(42.0, rel=1e-15)
+    assert wm.ruin_probability(0.25, 0.25, 3, 10) == pytest.approx(0.7, rel=1e-15)
+
+
+@pytest.mark.parametrize("up, down, start, target", [(0.3, 0.2, 5, 10), (0.2, 0.35, 7, 12), (0.49, 0.49, 4, 9)])
+def test_closed_forms_agree_with_the_banded_engine(up, down, start, target):
+    walk = wm.BandedWalk(wm.StepLaw.nearest(up, down), start=start, low=1, high=target - 1, below="stop", above="stop")
+    outlook = walk.outlook(20000)
+    assert outlook.stockout[-1] == pytest.approx(wm.ruin_probability(up, down, start, target), rel=1e-10)
+    assert walk.mean_periods_to_exit() == pytest.approx(wm.expected_duration(up, down, start, target), rel=1e-10)
+
+
+def test_extreme_odds_neither_overflow_nor_lose_small_values():
+    # q/p = 1/9 and z = 300: ruin = (r^z - r^a)/(1 - r^a) ~ 9^-300 (Feller's formula evaluated by hand in logs)
+    value = wm.ruin_probability(0.9, 0.1, 300, 600)
+    assert value == pytest.approx(9.0**-300 * (1 - 9.0**-300) / (1 - 9.0**-600), rel=1e-12)
+    assert wm.ruin_probability(0.1, 0.9, 300, 600) == pytest.approx(1.0, rel=1e-15)
+
+
+def test_bad_input_names_the_field():
+    with pytest.raises(ValueError, match="start"):
+        wm.ruin_probability(0.4, 0.5, 11, 10)
+    with pytest.raises(ValueError, match="up"):
+        wm.expected_duration(1.4, 0.5, 1, 10)
