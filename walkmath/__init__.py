@@ -5,24 +5,42 @@ the stable public surface described in the project's design notes.
 """
 
 from walkmath.banded import COMPUTE_CAP, BandedWalk, ComputeTooLarge, Outlook, StartRisk
+from walkmath.compare import (
+    MonteCarloOutlook,
+    brownian_first_passage,
+    monte_carlo_outlook,
+    normal_level_distribution,
+    normal_stockout_curve,
+    wilson_interval,
+)
 from walkmath.distribution import LevelDistribution, law_power, level_distribution
+from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.passage import first_stockout_times
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.steplaw import StepLaw
 
 __all__ = [
-    "COMPUTE_CAP",
     "BandedWalk",
+    "COMPUTE_CAP",
     "ComputeTooLarge",
     "LevelDistribution",
     "LongOutlook",
+    "MonteCarloOutlook",
     "Outlook",
     "StartRisk",
     "StepLaw",
+    "brownian_first_passage",
     "expected_duration",
     "first_stockout_times",
     "law_power",
+    "lead_time_demand",
     "level_distribution",
+    "monte_carlo_outlook",
+    "normal_level_distribution",
+    "normal_stockout_curve",
+    "reorder_point",
     "ruin_probability",
+    "safety_stock",
+    "wilson_interval",
 ]

@@ -230,7 +230,7 @@ class BandedWalk:
             reach_lo, reach_hi = lo, hi
             curves[0, period] = stopped_low[stockout_row]
             curves[1, period] = stopped_high[overflow_row]
-            curves[5, period] = math.fsum(mass[0, reach_lo : reach_hi + 1]) if lo <= hi else 0.0
+            curves[5, period] = mass[0, reach_lo : reach_hi + 1].sum() if lo <= hi else 0.0  # pairwise sum
             if keep_levels:
                 by_period[period] = mass[0, pad_low : pad_low + size]
 

@@ -28,6 +28,8 @@ from walkmath.steplaw import as_cycle
 CHUNK_PATHS = 1 << 16
 # Largest paths x periods one Monte Carlo run accepts (about 15-30 s on one core).
 SIMULATION_CAP = 1_000_000_000
+# Largest number of levels one normal level law spans (80 MB of floats).
+LEVELS_CAP = 10_000_000
 
 
 def normal_level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
@@ -50,18 +52,24 @@ def normal_level_distribution(law, steps: int, start: int = 0) -> LevelDistribut
     variance = math.fsum(count * item.variance for count, item in zip(uses, laws, strict=True))
     lowest = start + sum(count * item.lowest for count, item in zip(uses, laws, strict=True))
     highest = start + sum(count * item.highest for count, item in zip(uses, laws, strict=True))
+    if highest - lowest + 1 > LEVELS_CAP:
+        raise ValueError(
+            f"steps x step range must span at most {LEVELS_CAP:,} levels; got {highest - lowest + 1:,}. "
+            "Shorten the steps or coarsen the units."
+        )
     levels = np.arange(lowest, highest + 1)
     return LevelDistribution(levels, _normal_bins(levels, mean, math.sqrt(variance)))
 
 
 def brownian_first_passage(drift: float, variance: float, distance: float, t: float) -> float:
-    """P(tau <= t): Brownian motion with ``drift`` and ``variance`` per period hits a barrier ``distance`` below.
+    """P(tau <= t): Brownian motion (``drift``, ``variance`` per period) hits a barrier ``distance`` below.
 
     Convention: X_s = x + drift * s + sqrt(variance) W_s with x - barrier =
     a = ``distance`` > 0 and tau = inf{s: X_s <= barrier}; a negative drift
     moves toward the barrier (falling stock). Then
 
-        P(tau <= t) = Phi((-a - mu t) / (sigma sqrt t)) + e^{-2 mu a / sigma^2} Phi((-a + mu t) / (sigma sqrt t)),
+        P(tau <= t) = Phi((-a - mu t) / (sigma sqrt t))
+                      + e^{-2 mu a / sigma^2} Phi((-a + mu t) / (sigma sqrt t)),
 
     the passage-time law of Brownian motion with drift (Karatzas & Shreve,
     Brownian Motion and Stochastic Calculus, 2nd ed. 1991, section 3.5.C,
@@ -251,12 +259,14 @@ def _normal_bins(levels: np.ndarray, mean: float, spread: float) -> np.ndarray:
     """Phi((m + 1/2 - mean) / spread) - Phi((m - 1/2 - mean) / spread), each on its small-tail side."""
     if spread == 0.0:  # every step fixed: the level is certain (and mean is a whole number)
         return (levels == round(mean)).astype(float)
-    lower = (levels - 0.5 - mean) / spread
-    upper = (levels + 0.5 - mean) / spread
-    mirror = levels > mean  # above the mean use the survival side: Phi(-lower) - Phi(-upper)
-    near = special.log_ndtr(np.where(mirror, -lower, upper))  # log of the larger of the two terms
-    far = special.log_ndtr(np.where(mirror, -upper, lower))
-    return np.clip(np.exp(near) * -np.expm1(far - near), 0.0, 1.0)
+    with np.errstate(over="ignore", divide="ignore", invalid="ignore"):  # a tiny spread sends bounds to +-inf
+        lower = (levels - 0.5 - mean) / spread
+        upper = (levels + 0.5 - mean) / spread
+        mirror = levels > mean  # above the mean use the survival side: Phi(-lower) - Phi(-upper)
+        near = special.log_ndtr(np.where(mirror, -lower, upper))  # log of the larger of the two terms
+        far = special.log_ndtr(np.where(mirror, -upper, lower))
+        probs = np.exp(near) * -np.expm1(far - near)
+    return np.clip(np.nan_to_num(probs, nan=0.0), 0.0, 1.0)  # nan only where both terms are 0
 
 
 def _first_passage(drift: float, variance: float, distance: float, times: np.ndarray) -> np.ndarray:
@@ -272,18 +282,26 @@ def _first_passage(drift: float, variance: float, distance: float, times: np.nda
     result = np.zeros(times.shape)
     moving = times > 0
     t = times[moving]
-    if variance == 0.0:  # deterministic level: the barrier is reached once the drift covers the distance
-        result[moving] = distance + drift * t <= 0.0
-        return result
-    scale = np.sqrt(variance * t)
-    toward = (distance + drift * t) / scale
-    away = (distance - drift * t) / scale
-    direct = special.ndtr(-toward)
-    bounded = away >= 0.0
-    reflected = np.empty_like(t)
-    reflected[bounded] = 0.5 * np.exp(-0.5 * toward[bounded] ** 2) * special.erfcx(away[bounded] / math.sqrt(2))
-    reflected[~bounded] = np.exp(-2.0 * drift * distance / variance + special.log_ndtr(-away[~bounded]))
-    result[moving] = direct + reflected
+    # Extreme inputs (variance near 1e-300, say) may overflow to inf on the way: those limits are
+    # the intended ones, and a value left undefined (0/0) falls back to the noiseless answer.
+    with np.errstate(over="ignore", under="ignore", divide="ignore", invalid="ignore"):
+        certain = distance + drift * t <= 0.0  # the noiseless level has reached the barrier
+        if variance == 0.0:
+            result[moving] = certain
+            return result
+        scale = np.sqrt(variance * t)
+        toward = (distance + drift * t) / scale
+        away = (distance - drift * t) / scale
+        direct = special.ndtr(-toward)
+        bounded = away >= 0.0
+        reflected = np.zeros_like(t)
+        reflected[bounded] = 0.5 * np.exp(-0.5 * toward[bounded] ** 2) * special.erfcx(away[bounded] / math.sqrt(2))
+        exponent = -2.0 * drift * distance / variance
+        reflected[~bounded] = np.exp(exponent + special.log_ndtr(-away[~bounded]))
+        passage = direct + reflected
+    undefined = ~np.isfinite(passage)
+    passage[undefined] = certain[undefined]
+    result[moving] = passage
     return np.clip(result, 0.0, 1.0)
 
 
@@ -296,4 +314,3 @@ def _confidence(confidence) -> float:
     if not 0.0 < value < 1.0:
         raise ValueError(message)
     return value
-

@@ -89,7 +89,7 @@ def _compound(demand: StepLaw, lead_time: StepLaw) -> np.ndarray:
             lowest += demand.lowest
         if weight > 0:
             result[lowest : lowest + power.size] += weight * power
-    return result
+    return np.minimum(result, 1.0)  # a certain level may gather 1 + 1 ulp from rounded weights
 
 
 def _demand_law(demand) -> StepLaw:
