@@ -4,10 +4,11 @@ DEBUG           "1"/"0", default "1" (a fresh clone runs as a local tool)
 SECRET_KEY      required when DEBUG is off; a fixed development key otherwise
 DATABASE_URL    default: SQLite file db.sqlite3 beside manage.py
 ALLOWED_HOSTS   comma-separated, default "localhost,127.0.0.1,[::1]"
+PLANNER_COMPUTE_CAP  largest levels x periods one web request computes, default 2000000
 """
 
-from pathlib import Path
 import os
+from pathlib import Path
 
 import dj_database_url
 from django.core.exceptions import ImproperlyConfigured
@@ -29,7 +30,9 @@ SECRET_KEY = os.environ.get("SECRET_KEY", "" if not DEBUG else _DEV_KEY)
 if not DEBUG and (not SECRET_KEY or SECRET_KEY == _DEV_KEY or len(SECRET_KEY) < 32):
     raise ImproperlyConfigured("SECRET_KEY must be set to a random string of 32+ characters when DEBUG is off")
 
-ALLOWED_HOSTS = [h.strip() for h in os.environ.get("ALLOWED_HOSTS", "localhost,127.0.0.1,[::1]").split(",") if h.strip()]
+ALLOWED_HOSTS = [
+    h.strip() for h in os.environ.get("ALLOWED_HOSTS", "localhost,127.0.0.1,[::1]").split(",") if h.strip()
+]
 
 INSTALLED_APPS = [
     "django.contrib.admin",
@@ -107,3 +110,15 @@ STORAGES = {
         else "whitenoise.storage.CompressedManifestStaticFilesStorage"
     },
 }
+
+
+def _whole(name: str, default: str) -> int:
+    value = os.environ.get(name, default).strip()
+    if not value.isdigit() or int(value) < 1:
+        raise ImproperlyConfigured(f"{name} must be a whole number at least 1; got {value!r}")
+    return int(value)
+
+
+# Largest levels x periods one web request computes (memory: about 8 bytes x this for the
+# level-law table). Far below walkmath.COMPUTE_CAP so pages answer in well under a second.
+PLANNER_COMPUTE_CAP = _whole("PLANNER_COMPUTE_CAP", "2000000")

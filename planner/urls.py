@@ -1,6 +1,20 @@
 from django.contrib import admin
+from django.contrib.auth import views as auth_views
 from django.urls import path
 
+from planner import views
+
 urlpatterns = [
+    path("", views.scenario_list, name="scenario_list"),
+    path("scenarios/new/", views.scenario_new, name="scenario_new"),
+    path("scenarios/<int:pk>/", views.scenario_results, name="scenario_results"),
+    path("scenarios/<int:pk>/edit/", views.scenario_edit, name="scenario_edit"),
+    path("scenarios/<int:pk>/delete/", views.scenario_delete, name="scenario_delete"),
+    path("scenarios/<int:pk>/outlook.json", views.scenario_outlook_json, name="scenario_outlook_json"),
+    path("scenarios/<int:pk>/save-variant/", views.scenario_variant_save, name="scenario_variant_save"),
+    path("scenarios/<int:pk>/csv/<slug:table>.csv", views.scenario_csv, name="scenario_csv"),
+    path("step-law/preview.json", views.step_law_preview, name="step_law_preview"),
+    path("accounts/login/", auth_views.LoginView.as_view(redirect_authenticated_user=True), name="login"),
+    path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),
     path("admin/", admin.site.urls),
 ]

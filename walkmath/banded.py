@@ -15,7 +15,6 @@ overflow where it would rise above ``high``; ``stockout[n]`` and
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from functools import cached_property
 

@@ -1,0 +1,11 @@
+from django.contrib import admin
+
+from planner.models import Scenario
+
+
+@admin.register(Scenario)
+class ScenarioAdmin(admin.ModelAdmin):
+    list_display = ["title", "owner", "kind", "stockout_target", "overflow_target", "updated"]
+    list_filter = ["kind"]
+    search_fields = ["title", "notes", "owner__username"]
+    readonly_fields = ["created", "updated"]

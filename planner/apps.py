@@ -1,0 +1,7 @@
+from django.apps import AppConfig
+
+
+class PlannerConfig(AppConfig):
+    default_auto_field = "django.db.models.BigAutoField"
+    name = "planner"
+    verbose_name = "Fluctuation Planner"

@@ -1,0 +1,72 @@
+// Scenario form: show the inputs the chosen step law needs and preview that law as it is typed.
+(function () {
+  "use strict";
+  var form = document.getElementById("scenario-form");
+  if (!form) { return; }
+  var chart = document.getElementById("preview-chart");
+  var summary = document.getElementById("preview-summary");
+  var stepNames = ["step_method", "up", "down", "step_table", "profile", "delivery_every", "delivery_size"];
+  ["arrivals", "demand"].forEach(function (prefix) {
+    ["family", "mean", "variance", "amount", "table"].forEach(function (part) { stepNames.push(prefix + "_" + part); });
+  });
+  var pending = null;
+  var sequence = 0;
+
+  function value(name) {
+    var checked = form.querySelector("[name='" + name + "']:checked");
+    var field = checked || form.elements.namedItem(name);
+    return field ? field.value : "";
+  }
+
+  function showGroups() {
+    var method = value("step_method");
+    form.querySelectorAll(".method-group").forEach(function (group) {
+      group.hidden = group.dataset.method !== method;
+    });
+    form.querySelectorAll(".count-law").forEach(function (law) {
+      var family = value(law.dataset.prefix + "_family");
+      law.querySelectorAll(".family").forEach(function (part) {
+        part.hidden = part.dataset.family.split(" ").indexOf(family) < 0;
+      });
+    });
+  }
+
+  function preview() {
+    var params = new URLSearchParams();
+    stepNames.forEach(function (name) { var v = value(name); if (v !== "") { params.append(name, v); } });
+    var mine = ++sequence;
+    fetch(form.dataset.previewUrl + "?" + params.toString(), { credentials: "same-origin" })
+      .then(function (response) { return response.json().then(function (body) { return { ok: response.ok, body: body }; }); })
+      .then(function (reply) {
+        if (mine !== sequence) { return; }
+        if (!reply.ok) {
+          var errors = reply.body.errors || {};
+          var first = Object.keys(errors)[0];
+          summary.textContent = first ? errors[first][0] : "Fill in the step law to see it here.";
+          summary.className = "field-error";
+          return;
+        }
+        var law = reply.body;
+        summary.className = "muted";
+        summary.textContent = "Mean change " + law.mean.toFixed(3) + " units, variance " + law.variance.toFixed(3) +
+          (law.cycle > 1 ? "; over the " + law.cycle + "-period cycle the mean change is " + law.cycle_mean.toFixed(3) +
+          " units per period (first period shown)." : ".");
+        Plotly.react(chart, [{ type: "bar", x: law.steps, y: law.probs, marker: { color: "#2b7a84" },
+          hovertemplate: "step %{x}: %{y:.4g}<extra></extra>" }], {
+          margin: { l: 44, r: 8, t: 8, b: 36 }, height: 200, paper_bgcolor: "rgba(0,0,0,0)", plot_bgcolor: "#fffdf8",
+          xaxis: { title: { text: "change in one period (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
+          yaxis: { title: { text: "probability" }, rangemode: "tozero" },
+          font: { size: 11, color: "#24303f" }
+        }, { displayModeBar: false, responsive: true });
+      });
+  }
+
+  form.addEventListener("input", function () {
+    showGroups();
+    clearTimeout(pending);
+    pending = setTimeout(preview, 200);
+  });
+  form.addEventListener("change", showGroups);
+  showGroups();
+  preview();
+})();

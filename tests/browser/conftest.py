@@ -1,0 +1,54 @@
+"""Real-browser fixtures: Playwright for Python driving Debian's chromium, headless.
+
+Outside CI the tests skip, with the reason printed, only when no browser is
+found; in CI (the CI environment variable is set) a missing browser fails.
+"""
+
+import os
+import shutil
+
+import pytest
+
+# Playwright's sync API runs an event loop in this thread; Django's ORM would refuse to run beside it.
+os.environ["DJANGO_ALLOW_ASYNC_UNSAFE"] = "true"
+
+CHROMIUM_ARGS = [
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--no-first-run",
+]
+
+
+def chromium_path() -> str | None:
+    for candidate in (os.environ.get("CHROMIUM_PATH"), "/usr/bin/chromium", shutil.which("chromium")):
+        if candidate and os.path.exists(candidate):
+            return candidate
+    return None
+
+
+@pytest.fixture(scope="session")
+def browser():
+    path = chromium_path()
+    if path is None:
+        reason = "no chromium found (apt-get install -y chromium, or set CHROMIUM_PATH)"
+        if os.environ.get("CI"):
+            pytest.fail(f"browser tests need a browser in CI: {reason}")
+        print(f"\nskipping browser tests: {reason}")
+        pytest.skip(reason)
+    sync_api = pytest.importorskip("playwright.sync_api", reason="playwright is not installed")
+    with sync_api.sync_playwright() as playwright:
+        browser = playwright.chromium.launch(executable_path=path, headless=True, args=CHROMIUM_ARGS)
+        yield browser
+        browser.close()
+
+
+@pytest.fixture
+def page(browser):
+    context = browser.new_context(viewport={"width": 1400, "height": 1000}, accept_downloads=True)
+    page = context.new_page()
+    page.set_default_timeout(20_000)
+    yield page
+    context.close()
