@@ -13,24 +13,30 @@ from walkmath.compare import (
     normal_stockout_curve,
     wilson_interval,
 )
+from walkmath.continuous import BirthDeath, TransientLaw, continuous_level_distribution
 from walkmath.distribution import LevelDistribution, law_power, level_distribution
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.passage import first_stockout_times
 from walkmath.ruin import expected_duration, ruin_probability
+from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
 
 __all__ = [
     "BandedWalk",
+    "BirthDeath",
     "COMPUTE_CAP",
     "ComputeTooLarge",
     "LevelDistribution",
     "LongOutlook",
     "MonteCarloOutlook",
     "Outlook",
+    "SparesPool",
     "StartRisk",
     "StepLaw",
+    "TransientLaw",
     "brownian_first_passage",
+    "continuous_level_distribution",
     "expected_duration",
     "first_stockout_times",
     "law_power",

@@ -1,0 +1,340 @@
+"""Birth–death chains and the free continuous-time walk against published values, mpmath and linear solves."""
+
+import math
+import re
+
+import mpmath
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+from scipy import linalg, optimize, special, stats
+
+from walkmath import continuous
+from walkmath.continuous import BirthDeath, continuous_level_distribution
+
+
+def erlang_b(channels: int, load: float) -> float:
+    # B(0) = 1, B(c) = A B(c-1) / (c + A B(c-1)) (common practice; the standard Erlang B recursion)
+    blocking = 1.0
+    for c in range(1, channels + 1):
+        blocking = load * blocking / (c + load * blocking)
+    return blocking
+
+
+def loss_system(channels: int, load: float) -> BirthDeath:
+    """M/M/c/c: arrivals at rate A (service rate 1), k busy channels finish at rate k."""
+    return BirthDeath([load] * (channels + 1), list(range(channels + 1)))
+
+
+def mm1k(arrival: float, service: float, capacity: int) -> BirthDeath:
+    return BirthDeath([arrival] * (capacity + 1), [service] * (capacity + 1))
+
+
+def mp_generator(chain: BirthDeath):
+    size = chain.top + 1
+    generator = mpmath.zeros(size, size)
+    for k in range(size):
+        birth, death = mpmath.mpf(float(chain.birth[k])), mpmath.mpf(float(chain.death[k]))
+        if k < size - 1:
+            generator[k, k + 1] = birth
+        if k > 0:
+            generator[k, k - 1] = death
+        generator[k, k] = -(birth + death)
+    return generator
+
+
+def mp_skellam(k: int, a: float, b: float):
+    a, b = mpmath.mpf(a), mpmath.mpf(b)
+    return mpmath.exp(-(a + b)) * (a / b) ** (mpmath.mpf(k) / 2) * mpmath.besseli(abs(k), 2 * mpmath.sqrt(a * b))
+
+
+# -- steady state ---------------------------------------------------------------------------------
+
+
+def test_erlang_b_five_channels_two_erlangs():
+    # 0.0367 for c = 5, A = 2 (published Erlang B tables); exact value 0.036697...
+    assert erlang_b(5, 2.0) == pytest.approx(0.0367, abs=5e-5)
+    blocking = loss_system(5, 2.0).steady_state()[-1]
+    assert blocking == pytest.approx(erlang_b(5, 2.0), rel=1e-13)
+    # exact: (A^c / c!) / sum_k A^k / k! (Erlang's loss formula, common practice)
+    assert blocking == pytest.approx((32 / 120) / sum(2.0**k / math.factorial(k) for k in range(6)), rel=1e-13)
+
+
+def test_fifteen_channels_at_one_percent_blocking_carry_8_108_erlangs():
+    # A = 8.108 Erlangs for 15 channels at 1% blocking (published Erlang B tables)
+    load = optimize.brentq(lambda a: loss_system(15, a).steady_state()[-1] - 0.01, 1.0, 15.0, xtol=1e-12)
+    assert round(load, 3) == 8.108
+    assert erlang_b(15, load) == pytest.approx(0.01, rel=1e-10)
+
+
+def test_mm1k_blocking_probability():
+    # P_K = (1 - rho) rho^K / (1 - rho^(K+1)) = 0.0145434 for lambda 8, mu 10, K 12
+    # (Schaum's Outline of Probability, Random Variables and Random Processes, section 9.6)
+    law = mm1k(8.0, 10.0, 12).steady_state()
+    rho = 0.8
+    assert law[-1] == pytest.approx((1 - rho) * rho**12 / (1 - rho**13), rel=1e-13)
+    assert round(law[-1], 7) == 0.0145434
+
+
+def test_steady_state_solves_the_global_balance_equations():
+    # pi Q = 0, sum pi = 1 by a dense linear solve (common practice; independent of the product form)
+    rng = np.random.default_rng(7)
+    birth, death = rng.uniform(0.1, 5.0, 9), rng.uniform(0.1, 5.0, 9)
+    chain = BirthDeath(birth, death)
+    generator = np.diag(chain.birth[:-1], 1) + np.diag(chain.death[1:], -1)
+    generator -= np.diag(generator.sum(axis=1))
+    system = np.vstack((generator.T, np.ones(9)))
+    expected = np.linalg.lstsq(system, np.r_[np.zeros(9), 1.0], rcond=None)[0]
+    assert chain.steady_state() == pytest.approx(expected, rel=1e-11)
+
+
+def test_ten_thousand_levels_with_extreme_rate_ratios_stay_finite():
+    # pi_K / pi_0 = 1e60000: far beyond the float range, so only logs can hold the product form
+    chain = BirthDeath([1e3] * 10_001, [1e-3] * 10_001)
+    law = chain.steady_state()
+    assert np.all(np.isfinite(law)) and np.all(law >= 0)
+    assert math.fsum(law) == pytest.approx(1.0, abs=1e-14)
+    # geometric law pi_k ∝ r^k truncated: pi_{K-j} = (1 - 1/r) r^-j to rounding (common practice)
+    assert law[-1] == pytest.approx(1 - 1e-6, rel=1e-14)
+    assert law[-4] == pytest.approx((1 - 1e-6) * 1e-18, rel=1e-13)
+    assert law[-40] == pytest.approx((1 - 1e-6) * 1e-234, rel=1e-13)
+    extreme = BirthDeath([1e300, 1e300, 0.0], [0.0, 1e-300, 1e-300]).steady_state()
+    assert extreme[0] == 0.0 and extreme[2] == pytest.approx(1.0)
+
+
+def test_a_chain_absorbed_at_the_top_has_all_long_run_mass_there():
+    # documented behaviour: the long-run law lives on the single closed class
+    law = BirthDeath([1.0, 2.0, 0.0], [0.0, 1.0, 0.0]).steady_state()
+    assert law.tolist() == [0.0, 0.0, 1.0]
+
+
+def test_several_closed_classes_raise():
+    with pytest.raises(ValueError, match="closed classes"):
+        BirthDeath([0.0, 1.0, 0.0], [0.0, 1.0, 0.0]).steady_state()  # levels 0 and 2 both absorb
+
+
+# -- transient law --------------------------------------------------------------------------------
+
+
+def test_transient_matches_mpmath_matrix_exponential_down_to_1e_minus_28():
+    # reference: mpmath.expm at 50 digits (matches 80 digits to all printed places)
+    chain = mm1k(1.0, 10.0, 30)
+    mpmath.mp.dps = 50
+    exact = mpmath.expm(mp_generator(chain) * 4)
+    law = chain.transient(start=0, t=4.0)
+    reference = np.array([float(exact[0, k]) for k in range(31)])
+    assert 1e-28 < reference[27] < 1e-27
+    assert law == pytest.approx(reference, rel=1e-8, abs=0)
+
+
+def test_transient_at_time_zero_is_the_start_level():
+    law = mm1k(1.0, 2.0, 6).transient_with_bound(start=4, t=0.0)
+    assert law.probs.tolist() == [0, 0, 0, 0, 1, 0, 0]
+    assert law.dropped_mass == 0.0
+
+
+def test_transient_converges_to_the_steady_state():
+    chain = mm1k(1.0, 2.0, 10)  # relaxation time 1 / (sqrt(2) - 1)^2, about 6
+    assert chain.transient(start=10, t=300.0) == pytest.approx(chain.steady_state(), rel=1e-10)
+
+
+def test_a_hundred_thousand_uniformization_steps_neither_underflow_nor_leak_mass():
+    chain = mm1k(1.0, 2.0, 10)  # gamma = 3
+    result = chain.transient_with_bound(start=0, t=1e5 / 3)
+    assert np.all(np.isfinite(result.probs)) and np.all(result.probs >= 0)
+    assert math.fsum(result.probs) == pytest.approx(1.0, abs=1e-12)
+    assert result.steps > 1e5 and 0 <= result.dropped_mass <= 1e-15
+
+
+def test_two_level_chain_matches_its_closed_form():
+    # P(level 1 at t | level 0) = a / (a + b) (1 - e^-(a+b)t) (common practice; two-state Markov chain)
+    chain = BirthDeath([0.3, 0.0], [0.0, 0.7])
+    for t in (0.01, 1.0, 25.0):
+        law = chain.transient(0, t)
+        assert law[1] == pytest.approx(0.3 * -math.expm1(-t), rel=1e-13)
+        assert law[0] == pytest.approx(0.7 + 0.3 * math.exp(-t), rel=1e-13)
+
+
+@pytest.mark.parametrize("mean", [0.5, 40.0, 1e4, 1e7])
+def test_poisson_weights_from_the_mode_keep_full_relative_accuracy(mean):
+    # reference: mpmath log-gamma at 40 digits; scipy's pmf loses 1e-8 at mean 1e7 to cancellation
+    window = continuous._poisson_window(mean)
+    mpmath.mp.dps = 40
+    last = window.first + window.weights.size - 1
+    for count in {window.first, int(mean), int(mean + 10 * math.sqrt(mean)), last}:
+        exact = mpmath.exp(count * mpmath.log(mean) - mean - mpmath.loggamma(count + 1))
+        assert window.weights[count - window.first] == pytest.approx(float(exact), rel=1e-12)
+    # the reported bound covers the mass actually left out (scipy's regularised gamma tails)
+    outside = special.pdtr(window.first - 1, mean) if window.first else 0.0
+    outside += special.pdtrc(last, mean)
+    assert outside <= window.dropped * (1 + 1e-9) <= 1e-290
+
+
+def test_transient_curve_rows_equal_single_transients():
+    chain = BirthDeath([0.5, 1.5, 2.0, 0.2, 0.0], [0.0, 1.0, 0.4, 3.0, 1.0])
+    times = [0.0, 0.3, 2.0, 7.5]
+    curve = chain.transient_curve(start=2, times=times)
+    for row, t in zip(curve, times, strict=True):
+        assert row == pytest.approx(chain.transient(2, t), rel=1e-13, abs=0)
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    rates=st.lists(st.tuples(st.floats(0.0, 50.0), st.floats(0.0, 50.0)), min_size=1, max_size=8),
+    start=st.integers(0, 7),
+    t=st.floats(0.0, 20.0),
+)
+def test_transient_law_is_a_probability_vector(rates, start, t):
+    chain = BirthDeath([b for b, _ in rates], [d for _, d in rates])
+    law = chain.transient(min(start, chain.top), t)
+    assert np.all(law >= 0) and np.all(law <= 1)
+    assert math.fsum(law) == pytest.approx(1.0, abs=1e-12)
+
+
+@settings(max_examples=80, deadline=None)
+@given(rates=st.lists(st.tuples(st.floats(1e-3, 1e3), st.floats(1e-3, 1e3)), min_size=1, max_size=12))
+def test_steady_state_is_a_probability_vector_in_detailed_balance(rates):
+    chain = BirthDeath([b for b, _ in rates], [d for _, d in rates])
+    law = chain.steady_state()
+    assert np.all(law >= 0)
+    assert math.fsum(law) == pytest.approx(1.0, abs=1e-13)
+    # pi_k b_k = pi_{k+1} d_{k+1} (Kleinrock, Queueing Systems vol. 1, section 3.1)
+    assert law[:-1] * chain.birth[:-1] == pytest.approx(law[1:] * chain.death[1:], rel=1e-10)
+
+
+# -- mean first passage ---------------------------------------------------------------------------
+
+
+def banded_passage(chain: BirthDeath, start: int, target: int) -> float:
+    """Solve -Q_restricted h = 1 on the levels the chain can visit before the target (solve_banded)."""
+    low, high = (0, target - 1) if target > start else (target + 1, chain.top)
+    birth, death = chain.birth[low : high + 1].copy(), chain.death[low : high + 1].copy()
+    bands = np.zeros((3, high - low + 1))
+    bands[0, 1:] = -birth[:-1]  # superdiagonal: -b_k
+    bands[1] = birth + death  # diagonal: total outflow, including into the target
+    bands[2, :-1] = -death[1:]  # subdiagonal: -d_k
+    return float(linalg.solve_banded((1, 1), bands, np.ones(high - low + 1))[start - low])
+
+
+@pytest.mark.parametrize(("start", "target"), [(0, 9), (3, 7), (9, 0), (6, 2), (4, 4)])
+def test_mean_first_passage_matches_a_banded_linear_solve(start, target):
+    rng = np.random.default_rng(11)
+    chain = BirthDeath(rng.uniform(0.2, 3.0, 10), rng.uniform(0.2, 3.0, 10))
+    expected = 0.0 if start == target else banded_passage(chain, start, target)
+    assert chain.mean_first_passage(start, target) == pytest.approx(expected, rel=1e-12)
+
+
+def test_mm1_mean_time_to_empty_is_n_busy_periods():
+    # E[busy period] = 1 / (mu - lambda) for M/M/1 (Kleinrock, Queueing Systems vol. 1, ch. 5, M/G/1
+    # busy period E[Y] = x / (1 - rho); from memory). From level n the time to empty is n of them; the
+    # capacity 400 changes it by about rho^400, far below rounding.
+    chain = mm1k(1.0, 2.0, 400)
+    assert chain.mean_first_passage(5, 0) == pytest.approx(5.0, rel=1e-12)
+
+
+def test_mean_first_passage_is_infinite_when_the_target_may_never_be_reached():
+    chain = BirthDeath([1.0, 0.0, 1.0, 0.0], [0.0, 1.0, 1.0, 1.0])
+    assert chain.mean_first_passage(0, 3) == math.inf  # birth[1] = 0 blocks the way up
+    assert chain.mean_first_passage(2, 3) == math.inf  # the chain can fall to level 1 and stay below
+    # down from 3: h3 = 1 + h2, h2 = 1/2 + (h3 + h1) / 2, h1 = 1 (hand first-step solve): h3 = 4
+    assert chain.mean_first_passage(3, 0) == pytest.approx(4.0, rel=1e-14)
+    # a zero death rate at level 2 is a floor: from 2 the time to 3 is just 1 / b_2
+    walled = BirthDeath([1.0, 1.0, 1.0, 0.0], [0.0, 1.0, 0.0, 1.0])
+    assert walled.mean_first_passage(2, 3) == pytest.approx(1.0)
+
+
+# -- free continuous-time walk (Skellam) ----------------------------------------------------------
+
+
+@pytest.mark.parametrize(("up", "down", "t"), [(2.0, 1.0, 3.0), (0.4, 1.1, 0.5), (5.0, 5.0, 40.0), (60.0, 40.0, 50.0)])
+def test_skellam_law_matches_scipy(up, down, t):
+    d = continuous_level_distribution(up, down, t, start=3)
+    assert math.fsum(d.probs) == pytest.approx(1.0, abs=1e-12)
+    # reference: scipy.stats.skellam (noncentral chi-square through Boost); it returns 0 from about 1e-300
+    reference = stats.skellam.pmf(d.levels - 3, up * t, down * t)
+    shown = reference > 1e-290
+    assert d.probs[shown] == pytest.approx(reference[shown], rel=1e-10)
+    # the range holds all mass but 1e-300 a side, so its ends are below 1e-290
+    assert d.probs[0] < 1e-290 and d.probs[-1] < 1e-290
+    if (up + down) * t <= 1000:  # mpmath besseli at 30 digits; far too slow at order 4e4, argument 1e6
+        mpmath.mp.dps = 30
+        for level in (d.levels[0], d.levels[-1]):
+            exact = float(mp_skellam(int(level) - 3, up * t, down * t))
+            assert d.prob(level) == pytest.approx(exact, rel=1e-10)
+
+
+def test_one_sided_skellam_where_the_bessel_closed_form_underflows():
+    # ive(1000, 2) underflows to 0, yet P(N = 1000) = 0.0126 for a = 1000, b = 0.001 (mpmath besseli)
+    assert special.ive(1000, 2.0) == 0.0
+    d = continuous_level_distribution(1000.0, 0.001, 1.0)
+    mpmath.mp.dps = 30
+    for level in (-2, 0, 900, 1000, 1200):
+        assert d.prob(level) == pytest.approx(float(mp_skellam(level, 1000.0, 0.001)), rel=1e-10)
+
+
+def test_a_million_expected_up_jumps_keep_full_relative_accuracy():
+    # reference: P(N = k) = sum_j Poisson(k + j; a) Poisson(j; b) in mpmath at 40 digits (Skellam 1946;
+    # common practice for the difference of independent Poisson counts); b = 1 needs 120 terms
+    d = continuous_level_distribution(1e6, 1.0, 1.0)
+    mpmath.mp.dps = 40
+    a = mpmath.mpf(10**6)
+
+    def poisson(count, mean):
+        return mpmath.exp(count * mpmath.log(mean) - mean - mpmath.loggamma(count + 1))
+
+    for level in (980_000, 999_999, 1_030_000, 1_037_000):  # 1e-91, 4e-4, 1e-197, 8e-298
+        exact = mpmath.fsum(poisson(level + j, a) * poisson(j, 1) for j in range(120))
+        assert d.prob(level) == pytest.approx(float(exact), rel=1e-12)
+
+
+def test_pure_up_jumps_give_the_poisson_law_and_time_zero_the_start():
+    d = continuous_level_distribution(2.5, 0.0, 2.0, start=-4)
+    assert d.levels[0] == -4
+    # P(k jumps) = e^-5 5^k / k! (common practice; Poisson process)
+    for jumps in (0, 1, 5, 60):
+        assert d.prob(-4 + jumps) == pytest.approx(math.exp(-5 + jumps * math.log(5) - math.lgamma(jumps + 1)))
+    point = continuous_level_distribution(2.0, 3.0, 0.0, start=7)
+    assert point.levels.tolist() == [7] and point.probs.tolist() == [1.0]
+
+
+# -- bad input ------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize(
+    ("birth", "death", "words"),
+    [
+        ([1.0, -1.0], [0.0, 1.0], "birth[1]"),
+        ([1.0, 1.0], [0.0, math.nan], "death[1] must be a finite number from 0 to 1e+300"),
+        ([1.0, 1e308], [0.0, 1e308], "birth[1]"),
+        ([1.0, 1.0], [0.0, 1.0, 2.0], "same length"),
+        ([], [], "birth must be a list of 1 to"),
+        (["fast", 1.0], [0.0, 1.0], "birth must be a list of rates"),
+        ([[1.0]], [[1.0]], "birth must be a list of 1 to"),
+    ],
+)
+def test_bad_rates_name_the_parameter(birth, death, words):
+    with pytest.raises(ValueError, match=re.escape(words)):
+        BirthDeath(birth, death)
+
+
+def test_bad_times_and_levels_name_the_parameter():
+    chain = mm1k(1.0, 2.0, 4)
+    with pytest.raises(ValueError, match="start must be a whole number from 0 to 4"):
+        chain.transient(5, 1.0)
+    with pytest.raises(ValueError, match="t must be a finite number"):
+        chain.transient(0, -1.0)
+    with pytest.raises(ValueError, match=r"t must be a finite number from 0.0 to 3333333\.33"):
+        chain.transient(0, 1e7)  # gamma t = 3e7 is beyond the uniformization cap
+    with pytest.raises(ValueError, match=r"times\[1\]"):
+        chain.transient_curve(0, [1.0, math.inf])
+    with pytest.raises(ValueError, match="target must be a whole number from 0 to 4"):
+        chain.mean_first_passage(0, 9)
+    with pytest.raises(ValueError, match="up_rate must be a finite number at least 0"):
+        continuous_level_distribution(-1.0, 1.0, 1.0)
+    with pytest.raises(ValueError, match="down_rate"):
+        continuous_level_distribution(1.0, math.inf, 1.0)
+    with pytest.raises(ValueError, match="t must be a finite number from 0.0 to 500000000"):
+        continuous_level_distribution(1.0, 1.0, 1e9)
+    with pytest.raises(ValueError, match="start must be a whole number"):
+        continuous_level_distribution(1.0, 1.0, 1.0, start=0.5)
