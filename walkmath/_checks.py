@@ -54,6 +54,18 @@ def probability(name: str, value) -> float:
     return real(name, value, minimum=0.0, maximum=1.0)
 
 
+def open_probability(name: str, value) -> float:
+    """A probability strictly between 0 and 1 (a service or confidence level)."""
+    message = f"{name} must be a probability strictly between 0 and 1; got {value!r}"
+    try:
+        value = real(name, value)
+    except ValueError:
+        raise ValueError(message) from None
+    if not 0.0 < value < 1.0:
+        raise ValueError(message)
+    return value
+
+
 def probability_vector(name: str, values) -> np.ndarray:
     """Non-negative finite weights summing to 1 within ``SUM_TOLERANCE``; renormalised."""
     weights = np.asarray(values, dtype=float)

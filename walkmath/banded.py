@@ -57,7 +57,7 @@ class Outlook:
         Computed on first access by a second sweep that keeps every period:
         allocates (horizon + 1) x len(levels) floats.
         """
-        return self._walk._sweep(self.horizon, keep_levels=True).levels_by_period
+        return self._walk._sweep(self.horizon, keep_levels=True)[1]
 
     def level_law(self, period: int) -> LevelDistribution:
         """Level law at ``period`` for paths not stopped (sub-probability when a rule stops paths)."""
@@ -73,19 +73,6 @@ class StartRisk:
     starts: np.ndarray
     stockout: np.ndarray
     overflow: np.ndarray
-
-
-@dataclass(frozen=True, eq=False)
-class _Sweep:
-    levels: np.ndarray
-    stockout: np.ndarray
-    overflow: np.ndarray
-    alive: np.ndarray
-    lost_units: np.ndarray
-    spilled_units: np.ndarray
-    stockout_periods: np.ndarray
-    final: np.ndarray
-    levels_by_period: np.ndarray | None
 
 
 class BandedWalk:
@@ -130,20 +117,8 @@ class BandedWalk:
         levels x steps) time, O(levels) memory (the per-period level law is only
         built when ``level_probs`` is read).
         """
-        horizon = _checks.horizon(horizon)
-        sweep = self._sweep(horizon, keep_levels=False)
-        return Outlook(
-            horizon=horizon,
-            levels=sweep.levels,
-            stockout=sweep.stockout,
-            overflow=sweep.overflow,
-            alive=sweep.alive,
-            lost_units=sweep.lost_units,
-            spilled_units=sweep.spilled_units,
-            stockout_periods=sweep.stockout_periods,
-            final=LevelDistribution(sweep.levels, sweep.final),
-            _walk=self,
-        )
+        outlook, _ = self._sweep(_checks.horizon(horizon), keep_levels=False)
+        return outlook
 
     def _grid(self, horizon: int, start: int) -> tuple[int, int]:
         """Lowest and highest level the walk can occupy (bounded band, or reach within the horizon)."""
@@ -158,7 +133,7 @@ class BandedWalk:
                 f"{horizon:,} periods. Shorten the horizon, narrow the band or coarsen the units."
             )
 
-    def _sweep(self, horizon: int, keep_levels: bool) -> _Sweep:
+    def _sweep(self, horizon: int, keep_levels: bool) -> tuple[Outlook, np.ndarray | None]:
         grid_low, grid_high = self._grid(horizon, self.start)
         size = grid_high - grid_low + 1
         self._check_size(size, horizon)
@@ -237,17 +212,20 @@ class BandedWalk:
             curves[2, 1:] = np.cumsum(curves[2, 1:])
         else:
             curves[2] = curves[0]
-        return _Sweep(
-            levels=np.arange(grid_low, grid_high + 1),
+        levels = np.arange(grid_low, grid_high + 1)
+        outlook = Outlook(
+            horizon=horizon,
+            levels=levels,
             stockout=curves[0],
             overflow=curves[1],
             alive=np.minimum(curves[5], 1.0),
             lost_units=curves[3],
             spilled_units=curves[4],
             stockout_periods=curves[2],
-            final=mass[0, pad_low : pad_low + size].copy(),
-            levels_by_period=by_period,
+            final=LevelDistribution(levels, mass[0, pad_low : pad_low + size].copy()),
+            _walk=self,
         )
+        return outlook, by_period
 
     def outlook_at(self, periods) -> longrun.LongOutlook:
         """Stock-out and overflow risk at chosen periods, up to 10**7, by operator squaring (bounded bands)."""

@@ -114,7 +114,7 @@ def wilson_interval(successes, trials: int, confidence: float = 0.95):
     be an array; returns (lower, upper) as floats or arrays, clipped to [0, 1].
     """
     trials = _checks.whole("trials", trials, minimum=1)
-    confidence = _confidence(confidence)
+    confidence = _checks.open_probability("confidence", confidence)
     counts = np.asarray(successes)
     if counts.dtype.kind not in "iuf" or np.any(counts != np.floor(counts)):
         raise ValueError(f"successes must be whole numbers from 0 to trials ({trials})")
@@ -184,7 +184,7 @@ def monte_carlo_outlook(
     if paths * max(horizon, 1) > SIMULATION_CAP:
         raise ValueError(f"paths x horizon must be at most {SIMULATION_CAP:,}; got {paths:,} x {horizon:,}")
     seed = _checks.whole("seed", seed, minimum=0)
-    confidence = _confidence(confidence)
+    confidence = _checks.open_probability("confidence", confidence)
 
     rng = np.random.default_rng(seed)
     samplers = [(item.lowest, np.cumsum(item.probs)[:-1]) for item in laws]
@@ -303,14 +303,3 @@ def _first_passage(drift: float, variance: float, distance: float, times: np.nda
     passage[undefined] = certain[undefined]
     result[moving] = passage
     return np.clip(result, 0.0, 1.0)
-
-
-def _confidence(confidence) -> float:
-    message = f"confidence must be a probability strictly between 0 and 1; got {confidence!r}"
-    try:
-        value = _checks.real("confidence", confidence)
-    except ValueError:
-        raise ValueError(message) from None
-    if not 0.0 < value < 1.0:
-        raise ValueError(message)
-    return value

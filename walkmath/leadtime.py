@@ -56,7 +56,7 @@ def reorder_point(demand: StepLaw, lead_time: int | StepLaw, service: float) -> 
     P(D > r) <= 1 - service from the upper end, so service levels such as
     0.999999 are decided without cancellation (never scipy's ppf/isf).
     """
-    service = _service(service)
+    service = _checks.open_probability("service", service)
     return _smallest_covering(lead_time_demand(demand, lead_time).probs, service)
 
 
@@ -121,14 +121,3 @@ def _check_support(demand: StepLaw, periods: int) -> None:
             f"lead_time x largest demand per period must be below {SUPPORT_CAP:,} units; got {periods} "
             f"periods x {demand.highest} = {levels - 1:,}. Use coarser demand units or a shorter lead time."
         )
-
-
-def _service(service) -> float:
-    message = f"service must be a probability strictly between 0 and 1; got {service!r}"
-    try:
-        value = _checks.real("service", service)
-    except ValueError:
-        raise ValueError(message) from None
-    if not 0.0 < value < 1.0:
-        raise ValueError(message)
-    return value

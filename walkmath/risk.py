@@ -9,7 +9,8 @@
 * ``mean_periods_to_exit`` / ``mean_periods_to_stockout``: the linear system
   (I - Q) t = 1 on the band, Q the sub-stochastic one-period operator, solved
   as a band matrix (``scipy.linalg.solve_banded``); a cyclic law (period-
-  dependent steps) uses a sparse system over (phase, level).
+  dependent steps) uses a sparse system over (phase, level). A nearest-
+  neighbour walk between two ends takes the gambler's-ruin closed form.
 """
 
 from __future__ import annotations
@@ -21,7 +22,7 @@ import numpy as np
 from scipy import linalg, sparse
 from scipy.sparse import linalg as sparse_linalg
 
-from walkmath import _checks
+from walkmath import _checks, ruin
 
 if TYPE_CHECKING:
     from walkmath.banded import BandedWalk, StartRisk
@@ -144,6 +145,12 @@ def mean_periods_to_exit(walk: BandedWalk, *, overflow_ends: bool = True) -> flo
     cut doubled until the answer moves by less than 1e-12 relative.
     """
     if walk.high is not None:
+        if overflow_ends and len(walk.laws) == 1 and walk.laws[0].is_nearest:
+            # fast path: gambler's ruin between low - 1 and high + 1 (Feller vol. 1, XIV (3.5)-(3.6))
+            law = walk.laws[0]
+            return ruin.expected_duration(
+                law.prob(1), law.prob(-1), walk.start - walk.low + 1, walk.high - walk.low + 2
+            )
         if overflow_ends:
             return _mean_time(walk, walk.high, ends_above=True)
         if walk.above == "stop" and walk.max_up > 0:
