@@ -6,6 +6,7 @@ found; in CI (the CI environment variable is set) a missing browser fails.
 
 import os
 import shutil
+from urllib.parse import urlsplit
 
 import pytest
 
@@ -47,8 +48,17 @@ def browser():
 
 @pytest.fixture
 def page(browser):
+    """A fresh page that also records every request leaving this machine (charts must work offline)."""
     context = browser.new_context(viewport={"width": 1400, "height": 1000}, accept_downloads=True)
     page = context.new_page()
     page.set_default_timeout(20_000)
+    outside = []
+    page.on("request", lambda request: outside.append(request.url) if _leaves_machine(request.url) else None)
     yield page
     context.close()
+    assert not outside, f"the page fetched from outside this machine: {outside[:3]}"
+
+
+def _leaves_machine(url: str) -> bool:
+    host = urlsplit(url).hostname
+    return url.startswith(("http://", "https://")) and host not in {"localhost", "127.0.0.1", "::1"}
