@@ -108,13 +108,14 @@ def run_outlook(*, params: StockWalkParams, targets: Targets) -> StockOutlook:
         walk.smallest_capacity(horizon, targets.overflow, stockout_target=targets.stockout) if bounded else None
     )
     laws = tuple(walk.laws)
+    start_risk = walk.risk_by_start(horizon)
     return StockOutlook(
         params=params,
         targets=targets,
         laws=laws,
         outlook=outlook,
-        start_risk=walk.risk_by_start(horizon),
-        smallest_start=walk.smallest_start(horizon, targets.stockout, overflow_target=overflow_target),
+        start_risk=start_risk,
+        smallest_start=start_risk.smallest_meeting(targets.stockout, overflow_target),
         smallest_capacity=smallest_capacity,
         mean_periods_to_stockout=float(walk.mean_periods_to_stockout()),
         normal_final=wm.normal_level_distribution(list(laws), steps=horizon, start=params.start),

@@ -74,6 +74,13 @@ class StartRisk:
     stockout: np.ndarray
     overflow: np.ndarray
 
+    def smallest_meeting(self, stockout_target: float, overflow_target: float | None = None) -> int | None:
+        """Smallest start whose stock-out risk (and overflow risk, if given) meets the targets; None if none does."""
+        meets = self.stockout <= _checks.probability("stockout_target", stockout_target)
+        if overflow_target is not None:
+            meets &= self.overflow <= _checks.probability("overflow_target", overflow_target)
+        return int(self.starts[np.argmax(meets)]) if meets.any() else None
+
 
 class BandedWalk:
     """An integer walk started at ``start`` in the band ``low``..``high`` (``high=None``: no capacity).

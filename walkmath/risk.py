@@ -94,14 +94,7 @@ def smallest_start(
     walk: BandedWalk, horizon: int, stockout_target: float, overflow_target: float | None = None
 ) -> int | None:
     """Smallest start level whose stock-out risk (and overflow risk, if given) at the horizon meets the targets."""
-    stockout_target = _checks.probability("stockout_target", stockout_target)
-    if overflow_target is not None:
-        overflow_target = _checks.probability("overflow_target", overflow_target)
-    risk = risk_by_start(walk, horizon)
-    meets = risk.stockout <= stockout_target
-    if overflow_target is not None:
-        meets &= risk.overflow <= overflow_target
-    return int(risk.starts[np.argmax(meets)]) if meets.any() else None
+    return risk_by_start(walk, horizon).smallest_meeting(stockout_target, overflow_target)
 
 
 def smallest_capacity(
@@ -109,8 +102,8 @@ def smallest_capacity(
 ) -> int | None:
     """Smallest capacity (``high``, at least the start) meeting the overflow target at the horizon.
 
-    Bisection on capacity, one forward outlook per probe (about log2(horizon x
-    largest up-step) outlooks). With ``stockout_target`` the stock-out risk must
+    Galloping then bisection on capacity, one forward outlook per probe (about
+    2 log2(answer - start) outlooks, the cheap small bands first). With ``stockout_target`` the stock-out risk must
     be met too; under ``above="spill"`` it can only fall as capacity grows.
     """
     from walkmath.banded import BandedWalk
@@ -125,9 +118,16 @@ def smallest_capacity(
         ok = probe.overflow[-1] <= overflow_target
         return ok and (stockout_target is None or probe.stockout[-1] <= stockout_target)
 
-    lowest, highest = walk.start, walk.start + horizon * walk.max_up  # no overflow is possible at ``highest``
-    if not meets(highest):
+    # No overflow is possible at ``reach``; if even that fails, nothing does. Otherwise gallop up from the
+    # start (small bands are cheap), then bisect.
+    reach = walk.start + horizon * walk.max_up
+    if not meets(reach):
         return None
+    lowest, step = walk.start, max(walk.max_up, 1)
+    highest = min(walk.start + step, reach)
+    while not meets(highest):
+        lowest, step = highest + 1, 2 * step
+        highest = min(walk.start + step, reach)
     while lowest < highest:
         middle = (lowest + highest) // 2
         if meets(middle):
