@@ -13,12 +13,13 @@ from walkmath.compare import (
     normal_stockout_curve,
     wilson_interval,
 )
-from walkmath.continuous import BirthDeath, TransientLaw, continuous_level_distribution
+from walkmath.continuous import BirthDeath, TransientLaw
 from walkmath.distribution import LevelDistribution, law_power, level_distribution
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.passage import first_stockout_times
 from walkmath.ruin import expected_duration, ruin_probability
+from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
 

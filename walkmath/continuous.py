@@ -1,4 +1,4 @@
-"""Continuous-time level models: birth–death chains on levels 0..K and the free ±1 walk.
+"""Continuous-time level models: birth–death chains on levels 0..K.
 
 * Steady state by the product form pi_k ∝ prod_{i<k} b_i / d_{i+1} (Kleinrock, Queueing
   Systems vol. 1, 1975, §3.1), summed in logs so no ratio of rates overflows.
@@ -7,7 +7,6 @@
   entry keeps its relative accuracy; the Poisson weights start at the mode and recur outwards
   (Fox and Glynn, "Computing Poisson probabilities", CACM 31(4), 1988), so nothing underflows.
 * Mean first-passage times by the birth–death recursion (first-step analysis).
-* The free walk with ±1 jumps at Poisson rates: the Skellam law (Skellam, JRSS 109(3), 1946).
 """
 
 from __future__ import annotations
@@ -19,7 +18,6 @@ from dataclasses import dataclass
 import numpy as np
 
 from walkmath import _checks
-from walkmath.distribution import LevelDistribution
 
 # Poisson weights below this fraction of the weight at the mode are dropped. The dropped mass
 # (reported, always far below the design's 1e-15) can add at most that much to any entry, so a
@@ -31,10 +29,6 @@ UNIFORMIZATION_CAP = 1e7
 # Largest number of levels of a chain, and largest rate (so a level's total outflow stays finite).
 LEVEL_CAP = 1_000_000
 RATE_CAP = 1e300
-# Each tail of the Skellam law left out of ``continuous_level_distribution`` holds at most this mass.
-SKELLAM_TAIL = 1e-300
-# Largest mean number of jumps (up_rate + down_rate) * t of the free walk: about 2.4e6 levels.
-JUMP_CAP = 1e9
 # Uniformization steps held at once before they are weighted by a matrix product, and the most
 # entries such a block may hold (32 MB).
 STEP_BLOCK = 256
@@ -104,7 +98,7 @@ class BirthDeath:
         """
         low, high = self._closed_class()
         log_ratios = np.log(self.birth[low:high]) - np.log(self.death[low + 1 : high + 1])
-        weights = _peak_relative_weights(log_ratios)
+        weights = peak_relative_weights(log_ratios)
         law = np.zeros(self.birth.size)
         law[low : high + 1] = weights / math.fsum(weights)
         return law
@@ -120,7 +114,7 @@ class BirthDeath:
     def transient_with_bound(self, start: int, t: float) -> TransientLaw:
         """``transient`` with the bound on the Poisson mass dropped (at most about 1e-300)."""
         start = _checks.whole("start", start, minimum=0, maximum=self.top)
-        t = _time("t", t, self.longest_time)
+        t = time_within("t", t, self.longest_time)
         probs, dropped, steps = _uniformized(self, start, np.array([t]))
         return TransientLaw(probs[0], float(dropped[0]), steps)
 
@@ -130,7 +124,7 @@ class BirthDeath:
         Cost: one sweep to the largest time; memory len(times) x (K + 1).
         """
         start = _checks.whole("start", start, minimum=0, maximum=self.top)
-        times = _time_list("times", times, self.longest_time)
+        times = times_within("times", times, self.longest_time)
         return _uniformized(self, start, times)[0]
 
     def mean_first_passage(self, start: int, target: int) -> float:
@@ -172,35 +166,6 @@ class BirthDeath:
 
     def __repr__(self) -> str:
         return f"BirthDeath(levels 0..{self.top}, uniformization rate {self.uniformization_rate:.6g})"
-
-
-def continuous_level_distribution(up_rate: float, down_rate: float, t: float, start: int = 0) -> LevelDistribution:
-    """Level at time t of a free walk with +1 jumps at ``up_rate`` and -1 jumps at ``down_rate``.
-
-    Skellam law P(N = k) = e^-(a+b) (a/b)^(k/2) I_|k|(2 sqrt(ab)), a = up_rate t, b = down_rate t.
-    Built from ratios of successive probabilities, which are ratios of Bessel functions: the
-    recurrence I_{k-1} - I_{k+1} = (2k/z) I_k (Abramowitz and Stegun 9.6.26) run downwards is a
-    continued fraction of positive terms (Miller's algorithm), then normalised to total mass 1.
-    Every entry keeps relative accuracy near 1e-13 at any rates, where the closed form through
-    ``scipy.special.ive`` underflows (ive(1000, 2) = 0 though P(N = 1000) = 0.0126 for a = 1000,
-    b = 0.001). The levels leave out at most ``SKELLAM_TAIL`` (1e-300) of mass on each side.
-    """
-    up_rate = _checks.real("up_rate", up_rate, minimum=0.0)
-    down_rate = _checks.real("down_rate", down_rate, minimum=0.0)
-    jump_rate = up_rate + down_rate
-    t = _time("t", t, JUMP_CAP / jump_rate if jump_rate > 0 else math.inf)
-    start = _checks.whole("start", start, minimum=-(10**12), maximum=10**12)
-    up, down = up_rate * t, down_rate * t
-    # log P(N = k) - log P(N = k - 1) for every step of the range, lowest level first
-    below = _log_ratios(down, up)  # log P(N = -k) - log P(N = 1 - k), k = 1, 2, ...
-    increments = np.concatenate((-below[::-1], _log_ratios(up, down)))
-    lowest = start - below.size
-    weights = _peak_relative_weights(increments)
-    probs = weights / math.fsum(weights)
-    kept = np.flatnonzero(probs)  # drop end levels whose probability underflows to 0
-    probs = probs[kept[0] : kept[-1] + 1]
-    lowest += int(kept[0])
-    return LevelDistribution(np.arange(lowest, lowest + probs.size), probs)
 
 
 # -- uniformization --------------------------------------------------------------------------------
@@ -320,60 +285,7 @@ def _upward_passage(birth: np.ndarray, death: np.ndarray, start: int, target: in
     return math.fsum(passages)
 
 
-def _log_ratios(a: float, b: float) -> np.ndarray:
-    """log P(N = k) - log P(N = k - 1) for k = 1..reach, N = Poisson(a) - Poisson(b).
-
-    rho_k = P(N = k) / P(N = k - 1) solves rho_k = a / (k + b rho_{k+1}) (from a p_{k-1} = k p_k +
-    b p_{k+1}); run downwards from well beyond the reach, started at the local fixed point, where
-    the start no longer matters: each step damps an error by b rho / (k + b rho) < 1. Near the mode
-    rho is close to 1, so its excess rho - 1 = (a - b - k - b (rho_{k+1} - 1)) / (k + b rho_{k+1}) is
-    carried too and the log taken as log1p(excess): a million such logs then lose no digits.
-    """
-    reach = _tail_reach(a, b)
-    if reach == 0:
-        return np.empty(0)
-    top = reach + 64 + math.ceil(math.sqrt(a + b))
-    ratio = 2 * a / (top + 1 + math.sqrt((top + 1) ** 2 + 4 * a * b))
-    excess = ratio - 1.0
-    drift = a - b
-    logs = [0.0] * reach
-    for k in range(top, 0, -1):
-        denominator = k + b * ratio
-        ratio = a / denominator
-        excess = ((drift - k) - b * excess) / denominator
-        if k <= reach:
-            if ratio == 0:  # underflow: from here up every probability is 0
-                reach = k - 1
-            else:
-                logs[k - 1] = math.log1p(excess) if abs(excess) < 0.5 else math.log(ratio)
-    return np.array(logs[:reach])
-
-
-def _tail_reach(a: float, b: float) -> int:
-    """Smallest k >= 0 with P(N > k) <= SKELLAM_TAIL by the Chernoff bound, N = Poisson(a) - Poisson(b).
-
-    min over theta of E e^{theta (N - k)} = exp(sqrt(k^2 + 4ab) - a - b - k log x), with
-    x = e^theta = (k + sqrt(k^2 + 4ab)) / (2a); it is 1 at the mean a - b and falls beyond it.
-    """
-    if a == 0:
-        return 0
-    goal = math.log(SKELLAM_TAIL)
-
-    def log_bound(k: float) -> float:
-        root = math.sqrt(k * k + 4 * a * b)
-        return root - a - b - k * math.log((k + root) / (2 * a))
-
-    low = max(math.floor(a - b), 0)  # P(N > k) <= bound(k + 1); the bound is not below goal at the mean
-    high = low + 1
-    while log_bound(high + 1) > goal:
-        high = low + 2 * (high - low)
-    while high - low > 1:  # invariant: bound(low + 1) > goal >= bound(high + 1)
-        middle = (low + high) // 2
-        low, high = (low, middle) if log_bound(middle + 1) <= goal else (middle, high)
-    return high if log_bound(low + 1) > goal else low
-
-
-def _peak_relative_weights(increments: np.ndarray) -> np.ndarray:
+def peak_relative_weights(increments: np.ndarray) -> np.ndarray:
     """w_i / w_peak from increments[i - 1] = log w_i - log w_{i-1}.
 
     The logs are summed outwards from the peak, so every weight that does not underflow has a log
@@ -409,11 +321,11 @@ def _rates(name: str, values) -> np.ndarray:
     return rates
 
 
-def _time(name: str, value, longest: float) -> float:
+def time_within(name: str, value, longest: float) -> float:
     return _checks.real(name, value, minimum=0.0, maximum=None if math.isinf(longest) else longest)
 
 
-def _time_list(name: str, values, longest: float) -> np.ndarray:
+def times_within(name: str, values, longest: float) -> np.ndarray:
     try:
         times = np.array(values, dtype=float)
     except (TypeError, ValueError):

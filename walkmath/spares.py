@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from walkmath import _checks
-from walkmath.continuous import BirthDeath, _time, _time_list
+from walkmath.continuous import BirthDeath, time_within, times_within
 
 # Largest number of units, of spares and of crews; largest failure or repair rate (per unit time).
 POOL_CAP = 100_000
@@ -78,12 +78,12 @@ class SparesPool:
         The absorbed mass of the stopped chain by uniformization: a sum of non-negative terms, so a
         small risk keeps its relative accuracy (never 1 - survival).
         """
-        mission_time = _time("mission_time", mission_time, self.shortage_chain.longest_time)
+        mission_time = time_within("mission_time", mission_time, self.shortage_chain.longest_time)
         return float(self.shortage_chain.transient_with_bound(0, mission_time).probs[-1])
 
     def shortage_curve(self, mission_times: Sequence[float]) -> np.ndarray:
         """``shortage_probability`` at each of ``mission_times``, in one uniformization sweep."""
-        mission_times = _time_list("mission_times", mission_times, self.shortage_chain.longest_time)
+        mission_times = times_within("mission_times", mission_times, self.shortage_chain.longest_time)
         return self.shortage_chain.transient_curve(0, mission_times)[:, -1]
 
 
