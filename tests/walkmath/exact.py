@@ -72,3 +72,19 @@ def banded_outlook(pmf, start, low, high, below, above, horizon):
         "spilled": spilled,
         "final": final,
     }
+
+
+def mp_generator(chain):
+    """The birth-death generator matrix of ``chain`` in mpmath numbers (for mpmath.expm references)."""
+    import mpmath
+
+    size = chain.top + 1
+    generator = mpmath.zeros(size, size)
+    for k in range(size):
+        birth, death = mpmath.mpf(float(chain.birth[k])), mpmath.mpf(float(chain.death[k]))
+        if k < size - 1:
+            generator[k, k + 1] = birth
+        if k > 0:
+            generator[k, k - 1] = death
+        generator[k, k] = -(birth + death)
+    return generator

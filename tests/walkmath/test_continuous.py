@@ -10,6 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import linalg, optimize, special
 
+from tests.walkmath.exact import mp_generator
 from walkmath import continuous
 from walkmath.continuous import BirthDeath
 
@@ -29,19 +30,6 @@ def loss_system(channels: int, load: float) -> BirthDeath:
 
 def mm1k(arrival: float, service: float, capacity: int) -> BirthDeath:
     return BirthDeath([arrival] * (capacity + 1), [service] * (capacity + 1))
-
-
-def mp_generator(chain: BirthDeath):
-    size = chain.top + 1
-    generator = mpmath.zeros(size, size)
-    for k in range(size):
-        birth, death = mpmath.mpf(float(chain.birth[k])), mpmath.mpf(float(chain.death[k]))
-        if k < size - 1:
-            generator[k, k + 1] = birth
-        if k > 0:
-            generator[k, k - 1] = death
-        generator[k, k] = -(birth + death)
-    return generator
 
 
 # -- steady state ---------------------------------------------------------------------------------

@@ -74,8 +74,8 @@ def test_demand_starting_above_zero_is_padded_from_zero():
 # -- random lead time --------------------------------------------------------------
 
 
-def test_random_lead_time_matches_exact_fractions():
-    # Brute force: sum_L P(L) demand^{*L} in exact rational arithmetic.
+def exact_small_compound() -> list[Fraction]:
+    """sum_L P(L) demand^{*L} in exact rational arithmetic, demand {0: 1/2, 1: 1/3, 2: 1/6}, L in {1, 2, 3}."""
     demand = [Fraction(1, 2), Fraction(1, 3), Fraction(1, 6)]
     lead = {1: Fraction(1, 4), 2: Fraction(1, 2), 3: Fraction(1, 4)}
     exact = [Fraction(0)] * 7
@@ -84,9 +84,15 @@ def test_random_lead_time_matches_exact_fractions():
         power = fraction_convolve(power, demand)
         for k, p in enumerate(power):
             exact[k] += lead[periods] * p
+    return exact
+
+
+def test_random_lead_time_matches_exact_fractions():
+    # Brute force: sum_L P(L) demand^{*L} in exact rational arithmetic.
+    exact = exact_small_compound()
     law = lead_time_demand(
         StepLaw.from_pmf({0: 1 / 2, 1: 1 / 3, 2: 1 / 6}),
-        lead_time=StepLaw.from_pmf({periods: float(p) for periods, p in lead.items()}),
+        lead_time=StepLaw.from_pmf({1: 0.25, 2: 0.5, 3: 0.25}),
     )
     np.testing.assert_array_equal(law.levels, np.arange(7))
     np.testing.assert_allclose(law.probs, [float(p) for p in exact], rtol=1e-14)
@@ -191,14 +197,7 @@ def test_reorder_point_over_several_periods_matches_poisson(service):
 
 
 def test_reorder_point_with_random_lead_time_matches_exact_fractions():
-    demand = [Fraction(1, 2), Fraction(1, 3), Fraction(1, 6)]
-    lead = {1: Fraction(1, 4), 2: Fraction(1, 2), 3: Fraction(1, 4)}
-    exact = [Fraction(0)] * 7
-    power = [Fraction(1)]
-    for periods in range(1, 4):
-        power = fraction_convolve(power, demand)
-        for k, p in enumerate(power):
-            exact[k] += lead[periods] * p
+    exact = exact_small_compound()
     demand_law = StepLaw.from_pmf({0: 1 / 2, 1: 1 / 3, 2: 1 / 6})
     lead_law = StepLaw.from_pmf({1: 0.25, 2: 0.5, 3: 0.25})
     for service in (0.3, 0.6, 0.9, 0.99, 0.9999):

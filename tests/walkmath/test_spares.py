@@ -9,6 +9,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from tests.walkmath.exact import mp_generator
 from walkmath.spares import SparesPool
 
 
@@ -56,16 +57,7 @@ def exact_availability_and_mttf(units, spares, failure_rate, repair_rate, crews)
 
 def mp_shortage(pool: SparesPool, mission_time: float):
     chain = pool.shortage_chain
-    size = chain.top + 1
-    generator = mpmath.zeros(size, size)
-    for k in range(size):
-        birth, death = mpmath.mpf(float(chain.birth[k])), mpmath.mpf(float(chain.death[k]))
-        if k < size - 1:
-            generator[k, k + 1] = birth
-        if k > 0:
-            generator[k, k - 1] = death
-        generator[k, k] = -(birth + death)
-    return mpmath.expm(generator * mission_time)[0, size - 1]
+    return mpmath.expm(mp_generator(chain) * mission_time)[0, chain.top]
 
 
 def test_one_unit_without_spares_is_the_two_state_model():
