@@ -13,7 +13,7 @@ import math
 from dataclasses import dataclass
 
 import walkmath as wm
-from walkmath import _checks
+from walkmath import checks
 
 BELOW_RULES = ("backorder", "lost", "stop")
 ABOVE_RULES = ("spill", "stop")
@@ -37,10 +37,10 @@ def _table(name: str, rows) -> tuple[tuple[int, float], ...]:
         raise ValueError(f"{name} must have at least one row of 'value: probability'")
     if len(rows) > MAX_TABLE_ROWS:
         raise ValueError(f"{name} must have at most {MAX_TABLE_ROWS} rows; got {len(rows)}")
-    values = [_checks.whole(f"{name} value", v, minimum=-MAX_JUMP, maximum=MAX_JUMP) for v, _ in rows]
+    values = [checks.whole(f"{name} value", v, minimum=-MAX_JUMP, maximum=MAX_JUMP) for v, _ in rows]
     if len(set(values)) != len(values):
         raise ValueError(f"{name} must list each value once")
-    weights = _checks.probability_vector(f"{name} probabilities", [p for _, p in rows])
+    weights = checks.probability_vector(f"{name} probabilities", [p for _, p in rows])
     return tuple(zip(values, (float(w) for w in weights), strict=True))
 
 
@@ -55,18 +55,18 @@ class CountLaw:
     table: tuple[tuple[int, float], ...] = ()
 
     def __post_init__(self):
-        _checks.choice("family", self.family, COUNT_FAMILIES)
+        checks.choice("family", self.family, COUNT_FAMILIES)
         if self.family in ("poisson", "negative_binomial"):
-            object.__setattr__(self, "mean", _checks.real("mean", self.mean, minimum=0.0, maximum=1e4))
+            object.__setattr__(self, "mean", checks.real("mean", self.mean, minimum=0.0, maximum=1e4))
         if self.family == "negative_binomial":
-            variance = _checks.real("variance", self.variance, minimum=0.0, maximum=1e8)
+            variance = checks.real("variance", self.variance, minimum=0.0, maximum=1e8)
             if variance <= self.mean:
                 raise ValueError(
                     f"variance must exceed the mean ({self.mean:g}) for negative binomial; got {variance:g}"
                 )
             object.__setattr__(self, "variance", variance)
         if self.family == "fixed":
-            object.__setattr__(self, "amount", _checks.whole("amount", self.amount, minimum=0, maximum=MAX_JUMP))
+            object.__setattr__(self, "amount", checks.whole("amount", self.amount, minimum=0, maximum=MAX_JUMP))
         if self.family == "table":
             rows = _table("count table", self.table)
             if any(value < 0 for value, _ in rows):
@@ -139,19 +139,19 @@ class StockWalkParams:
 
     def __post_init__(self):
         set_ = object.__setattr__
-        set_(self, "horizon", _checks.whole("horizon", self.horizon, minimum=1, maximum=MAX_HORIZON))
-        set_(self, "low", _checks.whole("low", self.low, minimum=-MAX_LEVEL, maximum=MAX_LEVEL))
+        set_(self, "horizon", checks.whole("horizon", self.horizon, minimum=1, maximum=MAX_HORIZON))
+        set_(self, "low", checks.whole("low", self.low, minimum=-MAX_LEVEL, maximum=MAX_LEVEL))
         if self.high is not None:
-            set_(self, "high", _checks.whole("capacity", self.high, minimum=self.low, maximum=MAX_LEVEL))
+            set_(self, "high", checks.whole("capacity", self.high, minimum=self.low, maximum=MAX_LEVEL))
         top = self.high if self.high is not None else MAX_LEVEL
-        set_(self, "start", _checks.whole("start level", self.start, minimum=self.low, maximum=top))
-        _checks.choice("rule below low", self.below, BELOW_RULES)
-        _checks.choice("rule above capacity", self.above, ABOVE_RULES)
-        _checks.choice("step method", self.step_method, STEP_METHODS)
+        set_(self, "start", checks.whole("start level", self.start, minimum=self.low, maximum=top))
+        checks.choice("rule below low", self.below, BELOW_RULES)
+        checks.choice("rule above capacity", self.above, ABOVE_RULES)
+        checks.choice("step method", self.step_method, STEP_METHODS)
         if self.step_method == "nearest":
-            set_(self, "up", _checks.probability("up", self.up))
-            set_(self, "down", _checks.probability("down", self.down))
-            if self.up + self.down > 1 + _checks.SUM_TOLERANCE:
+            set_(self, "up", checks.probability("up", self.up))
+            set_(self, "down", checks.probability("down", self.down))
+            if self.up + self.down > 1 + checks.SUM_TOLERANCE:
                 raise ValueError(f"up + down must be at most 1; got {self.up + self.down:.12g}")
         if self.step_method == "table":
             set_(self, "table", _table("step table", self.table))
@@ -168,7 +168,7 @@ class StockWalkParams:
                 raise ValueError(
                     "profile needs the arrivals-and-demand step law with Poisson or negative binomial demand"
                 )
-            factors = tuple(_checks.real("profile factor", f, minimum=0.0, maximum=100.0) for f in self.profile)
+            factors = tuple(checks.real("profile factor", f, minimum=0.0, maximum=100.0) for f in self.profile)
             if len(factors) > MAX_CYCLE:
                 raise ValueError(f"profile must have at most {MAX_CYCLE} factors; got {len(factors)}")
             set_(self, "profile", factors)
@@ -176,9 +176,9 @@ class StockWalkParams:
             set_(
                 self,
                 "delivery_every",
-                _checks.whole("delivery every", self.delivery_every, minimum=1, maximum=MAX_CYCLE),
+                checks.whole("delivery every", self.delivery_every, minimum=1, maximum=MAX_CYCLE),
             )
-            size = _checks.whole("delivery size", self.delivery_size, minimum=1, maximum=MAX_JUMP)
+            size = checks.whole("delivery size", self.delivery_size, minimum=1, maximum=MAX_JUMP)
             set_(self, "delivery_size", size)
         else:
             set_(self, "delivery_size", 0)

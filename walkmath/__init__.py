@@ -4,6 +4,7 @@ Pure numerics (numpy and scipy); no web framework. The names exported here are
 the stable public surface described in the project's design notes.
 """
 
+from walkmath import checks
 from walkmath.banded import COMPUTE_CAP, BandedWalk, ComputeTooLarge, Outlook, StartRisk
 from walkmath.compare import (
     MonteCarloOutlook,
@@ -37,6 +38,7 @@ __all__ = [
     "StepLaw",
     "TransientLaw",
     "brownian_first_passage",
+    "checks",
     "continuous_level_distribution",
     "expected_duration",
     "first_stockout_times",

@@ -20,19 +20,15 @@ from functools import cached_property
 
 import numpy as np
 
-from walkmath import _checks, longrun, risk
+from walkmath import checks, longrun, risk
+from walkmath import cost as _cost
+from walkmath.checks import ABOVE_RULES, BELOW_RULES, DEFAULT_ABOVE, DEFAULT_BELOW
+from walkmath.cost import COST_METHODS, WORK_CAP, ComputeTooLarge, Work
 from walkmath.distribution import LevelDistribution
 from walkmath.steplaw import StepLaw, as_cycle
 
-BELOW_RULES = ("backorder", "lost", "stop")
-ABOVE_RULES = ("spill", "stop")
-
-# Largest levels x periods one outlook or sweep accepts (about 5 s on one core).
-COMPUTE_CAP = 200_000_000
-
-
-class ComputeTooLarge(ValueError):
-    """The requested levels x periods exceeds ``COMPUTE_CAP``."""
+# Kept for callers of the first release: the engine's cap, now in work units (see walkmath.cost).
+COMPUTE_CAP = WORK_CAP
 
 
 @dataclass(frozen=True, eq=False)
@@ -61,7 +57,7 @@ class Outlook:
 
     def level_law(self, period: int) -> LevelDistribution:
         """Level law at ``period`` for paths not stopped (sub-probability when a rule stops paths)."""
-        period = _checks.whole("period", period, minimum=0, maximum=self.horizon)
+        period = checks.whole("period", period, minimum=0, maximum=self.horizon)
         return LevelDistribution(self.levels, self.level_probs[period])
 
 
@@ -76,9 +72,9 @@ class StartRisk:
 
     def smallest_meeting(self, stockout_target: float, overflow_target: float | None = None) -> int | None:
         """Smallest start whose stock-out risk (and overflow risk, if given) meets the targets; None if none does."""
-        meets = self.stockout <= _checks.probability("stockout_target", stockout_target)
+        meets = self.stockout <= checks.probability("stockout_target", stockout_target)
         if overflow_target is not None:
-            meets &= self.overflow <= _checks.probability("overflow_target", overflow_target)
+            meets &= self.overflow <= checks.probability("overflow_target", overflow_target)
         return int(self.starts[np.argmax(meets)]) if meets.any() else None
 
 
@@ -91,18 +87,20 @@ class BandedWalk:
     them applied cyclically, one per period (period n uses law[(n - 1) % len]).
     """
 
-    def __init__(self, law, start: int, low: int = 0, high: int | None = None, below="stop", above="spill"):
+    def __init__(
+        self, law, start: int, low: int = 0, high: int | None = None, below=DEFAULT_BELOW, above=DEFAULT_ABOVE
+    ):
         self.laws = as_cycle(law)
-        self.low = _checks.whole("low", low)
-        self.high = None if high is None else _checks.whole("high", high)
+        self.low = checks.whole("low", low)
+        self.high = None if high is None else checks.whole("high", high)
         if self.high is not None and self.high < self.low:
             raise ValueError(f"high (capacity) must be at least low ({self.low}); got {self.high}")
         upper = "" if self.high is None else f" and at most high ({self.high})"
-        self.start = _checks.whole("start", start)
+        self.start = checks.whole("start", start)
         if self.start < self.low or (self.high is not None and self.start > self.high):
             raise ValueError(f"start must be at least low ({self.low}){upper}; got {self.start}")
-        self.below = _checks.choice("below", below, BELOW_RULES)
-        self.above = _checks.choice("above", above, ABOVE_RULES)
+        self.below = checks.choice("below", below, BELOW_RULES)
+        self.above = checks.choice("above", above, ABOVE_RULES)
         self.max_down = max(0, -min(law.lowest for law in self.laws))
         self.max_up = max(0, max(law.highest for law in self.laws))
 
@@ -111,6 +109,33 @@ class BandedWalk:
             f"BandedWalk(start={self.start}, low={self.low}, high={self.high}, "
             f"below={self.below!r}, above={self.above!r}, laws={len(self.laws)})"
         )
+
+    # -- cost model -----------------------------------------------------------
+
+    def cost(self, horizon: int, method: str = "outlook") -> Work:
+        """Priced work of ``method`` over ``horizon`` periods, before doing any of it (see walkmath.cost).
+
+        Methods: "outlook", "level_probs" (the outlook keeping every period),
+        "risk_by_start" (also "smallest_start"), "smallest_capacity" (bound over
+        the whole search), "outlook_at" (operator squaring) and "mean_time".
+        """
+        horizon = checks.horizon(horizon)
+        method = checks.choice("method", method, COST_METHODS)
+        return _cost.price(self, horizon, method)
+
+    def _price(self, horizon: int, method: str) -> Work:
+        jumps = max(law.probs.size for law in self.laws)
+        if method in ("outlook", "level_probs"):
+            low, high = self._grid(horizon, self.start)
+            copies = 1 + (self.below != "stop") + (self.above != "stop" and self.high is not None)
+            return Work(method, high - low + 1, horizon, jumps, copies)
+        if method in ("risk_by_start", "smallest_start"):
+            return risk.work(self, horizon, method)
+        if method == "smallest_capacity":
+            return risk.capacity_work(self, horizon)
+        if method == "outlook_at":
+            return longrun.work(self, horizon)
+        return risk.mean_time_work(self)
 
     def law_for_period(self, period: int) -> StepLaw:
         return self.laws[(period - 1) % len(self.laws)]
@@ -124,7 +149,7 @@ class BandedWalk:
         levels x steps) time, O(levels) memory (the per-period level law is only
         built when ``level_probs`` is read).
         """
-        outlook, _ = self._sweep(_checks.horizon(horizon), keep_levels=False)
+        outlook, _ = self._sweep(checks.horizon(horizon), keep_levels=False)
         return outlook
 
     def _grid(self, horizon: int, start: int) -> tuple[int, int]:

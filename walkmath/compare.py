@@ -18,7 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import special, stats
 
-from walkmath import _checks
+from walkmath import checks
 from walkmath.banded import ABOVE_RULES, BELOW_RULES
 from walkmath.distribution import LevelDistribution
 from walkmath.steplaw import as_cycle
@@ -44,8 +44,8 @@ def normal_level_distribution(law, steps: int, start: int = 0) -> LevelDistribut
     their digits and none is negative.
     """
     laws = as_cycle(law)
-    steps = _checks.horizon(steps, "steps")
-    start = _checks.whole("start", start)
+    steps = checks.horizon(steps, "steps")
+    start = checks.whole("start", start)
     full_cycles, rest = divmod(steps, len(laws))
     uses = [full_cycles + (1 if index < rest else 0) for index in range(len(laws))]
     mean = start + math.fsum(count * item.mean for count, item in zip(uses, laws, strict=True))
@@ -80,10 +80,10 @@ def brownian_first_passage(drift: float, variance: float, distance: float, t: fl
     exponential times Phi is never formed directly (see ``_first_passage``), so
     huge exponents neither overflow nor cancel; the result lies in [0, 1].
     """
-    drift = _checks.real("drift", drift)
-    variance = _checks.real("variance", variance, minimum=0.0)
-    distance = _checks.real("distance", distance, minimum=0.0, strict_minimum=True)
-    t = _checks.real("t", t, minimum=0.0)
+    drift = checks.real("drift", drift)
+    variance = checks.real("variance", variance, minimum=0.0)
+    distance = checks.real("distance", distance, minimum=0.0, strict_minimum=True)
+    t = checks.real("t", t, minimum=0.0)
     return float(_first_passage(drift, variance, distance, np.array([t]))[0])
 
 
@@ -96,11 +96,11 @@ def normal_stockout_curve(law, start: int, low: int, horizon: int) -> np.ndarray
     the integer level first falls below ``low`` when it reaches low - 1.
     """
     laws = as_cycle(law)
-    low = _checks.whole("low", low)
-    start = _checks.whole("start", start)
+    low = checks.whole("low", low)
+    start = checks.whole("start", start)
     if start < low:
         raise ValueError(f"start must be at least low ({low}); got {start}")
-    horizon = _checks.horizon(horizon)
+    horizon = checks.horizon(horizon)
     drift = math.fsum(item.mean for item in laws) / len(laws)
     variance = math.fsum(item.variance for item in laws) / len(laws)
     return _first_passage(drift, variance, start - low + 0.5, np.arange(horizon + 1, dtype=float))
@@ -113,8 +113,8 @@ def wilson_interval(successes, trials: int, confidence: float = 0.95):
     with p = successes / n and z the two-sided normal quantile. ``successes`` may
     be an array; returns (lower, upper) as floats or arrays, clipped to [0, 1].
     """
-    trials = _checks.whole("trials", trials, minimum=1)
-    confidence = _checks.open_probability("confidence", confidence)
+    trials = checks.whole("trials", trials, minimum=1)
+    confidence = checks.open_probability("confidence", confidence)
     counts = np.asarray(successes)
     if counts.dtype.kind not in "iuf" or np.any(counts != np.floor(counts)):
         raise ValueError(f"successes must be whole numbers from 0 to trials ({trials})")
@@ -169,22 +169,22 @@ def monte_carlo_outlook(
     (10**6 paths x 1000 periods: 15-30 s).
     """
     laws = as_cycle(law)
-    low = _checks.whole("low", low)
-    high = None if high is None else _checks.whole("high", high)
+    low = checks.whole("low", low)
+    high = None if high is None else checks.whole("high", high)
     if high is not None and high < low:
         raise ValueError(f"high (capacity) must be at least low ({low}); got {high}")
-    start = _checks.whole("start", start)
+    start = checks.whole("start", start)
     if start < low or (high is not None and start > high):
         upper = "" if high is None else f" and at most high ({high})"
         raise ValueError(f"start must be at least low ({low}){upper}; got {start}")
-    below = _checks.choice("below", below, BELOW_RULES)
-    above = _checks.choice("above", above, ABOVE_RULES)
-    horizon = _checks.horizon(horizon)
-    paths = _checks.whole("paths", paths, minimum=1, maximum=SIMULATION_CAP)
+    below = checks.choice("below", below, BELOW_RULES)
+    above = checks.choice("above", above, ABOVE_RULES)
+    horizon = checks.horizon(horizon)
+    paths = checks.whole("paths", paths, minimum=1, maximum=SIMULATION_CAP)
     if paths * max(horizon, 1) > SIMULATION_CAP:
         raise ValueError(f"paths x horizon must be at most {SIMULATION_CAP:,}; got {paths:,} x {horizon:,}")
-    seed = _checks.whole("seed", seed, minimum=0)
-    confidence = _checks.open_probability("confidence", confidence)
+    seed = checks.whole("seed", seed, minimum=0)
+    confidence = checks.open_probability("confidence", confidence)
 
     rng = np.random.default_rng(seed)
     samplers = [(item.lowest, np.cumsum(item.probs)[:-1]) for item in laws]

@@ -17,7 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from walkmath import _checks
+from walkmath import checks
 
 # Poisson weights below this fraction of the weight at the mode are dropped. The dropped mass
 # (reported, always far below the design's 1e-15) can add at most that much to any entry, so a
@@ -113,7 +113,7 @@ class BirthDeath:
 
     def transient_with_bound(self, start: int, t: float) -> TransientLaw:
         """``transient`` with the bound on the Poisson mass dropped (at most about 1e-300)."""
-        start = _checks.whole("start", start, minimum=0, maximum=self.top)
+        start = checks.whole("start", start, minimum=0, maximum=self.top)
         t = time_within("t", t, self.longest_time)
         probs, dropped, steps = _uniformized(self, start, np.array([t]))
         return TransientLaw(probs[0], float(dropped[0]), steps)
@@ -123,7 +123,7 @@ class BirthDeath:
 
         Cost: one sweep to the largest time; memory len(times) x (K + 1).
         """
-        start = _checks.whole("start", start, minimum=0, maximum=self.top)
+        start = checks.whole("start", start, minimum=0, maximum=self.top)
         times = times_within("times", times, self.longest_time)
         return _uniformized(self, start, times)[0]
 
@@ -134,8 +134,8 @@ class BirthDeath:
         a sum of non-negative terms; downward passages use the mirrored chain. inf when the target
         may never be reached (a zero rate on the way) or the time exceeds the float range.
         """
-        start = _checks.whole("start", start, minimum=0, maximum=self.top)
-        target = _checks.whole("target", target, minimum=0, maximum=self.top)
+        start = checks.whole("start", start, minimum=0, maximum=self.top)
+        target = checks.whole("target", target, minimum=0, maximum=self.top)
         if target > start:
             return _upward_passage(self.birth, self.death, start, target)
         if target < start:
@@ -322,7 +322,7 @@ def _rates(name: str, values) -> np.ndarray:
 
 
 def time_within(name: str, value, longest: float) -> float:
-    return _checks.real(name, value, minimum=0.0, maximum=None if math.isinf(longest) else longest)
+    return checks.real(name, value, minimum=0.0, maximum=None if math.isinf(longest) else longest)
 
 
 def times_within(name: str, values, longest: float) -> np.ndarray:

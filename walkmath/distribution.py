@@ -22,7 +22,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import optimize, stats
 
-from walkmath import _checks
+from walkmath import checks
 from walkmath.steplaw import StepLaw, as_cycle
 
 # Largest support (in levels) built by direct convolution before switching to
@@ -68,8 +68,8 @@ def level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
     tilted FFT windows for supports above ``DIRECT_LIMIT`` levels.
     """
     laws = as_cycle(law)
-    steps = _checks.horizon(steps, "steps")
-    start = _checks.whole("start", start)
+    steps = checks.horizon(steps, "steps")
+    start = checks.whole("start", start)
     full_cycles, rest = divmod(steps, len(laws))
     if len(laws) == 1:
         lowest, probs = _power(laws[0], steps)
@@ -85,7 +85,7 @@ def level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
 
 def law_power(law: StepLaw, times: int) -> tuple[int, np.ndarray]:
     """Lowest value and probabilities of the sum of ``times`` independent copies of ``law``."""
-    return _power(law, _checks.horizon(times, "times"))
+    return _power(law, checks.horizon(times, "times"))
 
 
 def _product(laws) -> StepLaw:

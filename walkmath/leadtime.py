@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from walkmath import _checks
+from walkmath import checks
 from walkmath.distribution import LevelDistribution, law_power
 from walkmath.steplaw import StepLaw
 
@@ -41,7 +41,7 @@ def lead_time_demand(demand: StepLaw, lead_time: int | StepLaw) -> LevelDistribu
     if isinstance(lead_time, StepLaw):
         probs = _compound(demand, _lead_time_law(lead_time))
     else:
-        periods = _checks.whole("lead_time", lead_time, minimum=1, maximum=_checks.HORIZON_CAP)
+        periods = checks.whole("lead_time", lead_time, minimum=1, maximum=checks.HORIZON_CAP)
         _check_support(demand, periods)
         lowest, power = law_power(demand, periods)
         probs = np.concatenate([np.zeros(lowest), power])
@@ -56,7 +56,7 @@ def reorder_point(demand: StepLaw, lead_time: int | StepLaw, service: float) -> 
     P(D > r) <= 1 - service from the upper end, so service levels such as
     0.999999 are decided without cancellation (never scipy's ppf/isf).
     """
-    service = _checks.open_probability("service", service)
+    service = checks.open_probability("service", service)
     return _smallest_covering(lead_time_demand(demand, lead_time).probs, service)
 
 
@@ -109,8 +109,8 @@ def _lead_time_law(lead_time: StepLaw) -> StepLaw:
             f"lead_time must be at least 1 period; the lead-time law gives {lead_time.lowest} "
             f"probability {lead_time.probs[0]:.6g}"
         )
-    if lead_time.highest > _checks.HORIZON_CAP:
-        raise ValueError(f"lead_time must be at most {_checks.HORIZON_CAP} periods; got up to {lead_time.highest}")
+    if lead_time.highest > checks.HORIZON_CAP:
+        raise ValueError(f"lead_time must be at most {checks.HORIZON_CAP} periods; got up to {lead_time.highest}")
     return lead_time
 
 

@@ -16,7 +16,8 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from walkmath import _checks
+from walkmath import checks
+from walkmath.cost import Work
 from walkmath.distribution import LevelDistribution
 
 if TYPE_CHECKING:
@@ -35,9 +36,19 @@ class LongOutlook:
     final: LevelDistribution  # level law at the latest period, paths not stopped
 
 
+def work(walk: BandedWalk, horizon: int) -> Work:
+    """Priced work of operator squaring to ``horizon``: dense products of (levels + 2)-square matrices."""
+    size = (walk.high if walk.high is not None else walk.start) - walk.low + 3
+    products = 2 * max(1, int(horizon).bit_length()) + len(walk.laws)
+    rule_sets = 1 + (walk.below != "stop") + (walk.above != "stop")
+    return Work(
+        "outlook_at", size, 1, 1, copies=0, dense=rule_sets * products * size**3, knob="narrow the band (capacity)"
+    )
+
+
 def long_outlook(walk: BandedWalk, periods) -> LongOutlook:
     """Stock-out and overflow risk at each of ``periods`` (any order, up to ``HORIZON_CAP``)."""
-    wanted = np.array([_checks.horizon(p, "periods") for p in np.atleast_1d(periods)], dtype=np.int64)
+    wanted = np.array([checks.horizon(p, "periods") for p in np.atleast_1d(periods)], dtype=np.int64)
     if wanted.size == 0:
         raise ValueError("periods must hold at least one period")
     if walk.high is None or walk.below == "backorder":

@@ -18,7 +18,7 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
-from walkmath import _checks
+from walkmath import checks
 from walkmath.steplaw import StepLaw
 
 
@@ -30,9 +30,9 @@ def first_stockout_times(law: StepLaw, start: int, low: int, horizon: int) -> np
         raise ValueError(
             f"law must have down-steps of at most 1 for the hitting-time theorem; its lowest step is {law.lowest}"
         )
-    low = _checks.whole("low", low)
-    start = _checks.whole("start", start, minimum=low)
-    horizon = _checks.horizon(horizon)
+    low = checks.whole("low", low)
+    start = checks.whole("start", start, minimum=low)
+    horizon = checks.horizon(horizon)
     distance = start - low + 1  # the level low - 1 is the first stock-out level
     periods = np.arange(1, horizon + 1)
     result = np.zeros(horizon + 1)

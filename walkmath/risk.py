@@ -22,7 +22,8 @@ import numpy as np
 from scipy import linalg, sparse
 from scipy.sparse import linalg as sparse_linalg
 
-from walkmath import _checks, ruin
+from walkmath import checks, ruin
+from walkmath.cost import Work
 
 if TYPE_CHECKING:
     from walkmath.banded import BandedWalk, StartRisk
@@ -41,10 +42,10 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
     """
     from walkmath.banded import StartRisk
 
-    horizon = _checks.horizon(horizon)
+    horizon = checks.horizon(horizon)
     if top is None:
         top = walk.high if walk.high is not None else _default_top(walk, horizon)
-    top = _checks.whole("top", top, minimum=walk.low, maximum=walk.high)
+    top = checks.whole("top", top, minimum=walk.low, maximum=walk.high)
     grid_low = walk.low - (horizon * walk.max_down if walk.below == "backorder" else 0)
     grid_high = walk.high if walk.high is not None else top + horizon * walk.max_up
     size = grid_high - grid_low + 1
@@ -70,6 +71,32 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
     starts = np.arange(walk.low, top + 1)
     rows = starts - grid_low
     return StartRisk(horizon=horizon, starts=starts, stockout=stockout[rows], overflow=overflow[rows])
+
+
+def work(walk: BandedWalk, horizon: int, method: str = "risk_by_start") -> Work:
+    """Priced work of the backward sweep (stock-out and overflow risk for every start level)."""
+    top = walk.high if walk.high is not None else _default_top(walk, horizon)
+    grid_low = walk.low - (horizon * walk.max_down if walk.below == "backorder" else 0)
+    grid_high = walk.high if walk.high is not None else top + horizon * walk.max_up
+    jumps = max(law.probs.size for law in walk.laws)
+    return Work(method, grid_high - grid_low + 1, horizon, jumps, copies=2)
+
+
+def capacity_work(walk: BandedWalk, horizon: int) -> Work:
+    """Priced work of the capacity search: bounded by its probes, each a forward outlook."""
+    jumps = max(law.probs.size for law in walk.laws)
+    reach = walk.start + horizon * walk.max_up
+    levels = reach - walk.low + 1
+    probes = 2 * max(1, math.ceil(math.log2(max(reach - walk.start, 2))))
+    return Work("smallest_capacity", levels, horizon, jumps, copies=3 * probes)
+
+
+def mean_time_work(walk: BandedWalk) -> Work:
+    """Priced work of a mean-time solve (banded elimination over the band, or a grown band without capacity)."""
+    jumps = max(law.probs.size for law in walk.laws)
+    top = walk.high if walk.high is not None else walk.start + 2**22
+    levels = (top - walk.low + 1) * len(walk.laws)
+    return Work("mean_time", levels, 1, jumps * jumps, knob="narrow the band (capacity)")
 
 
 def _default_top(walk: BandedWalk, horizon: int) -> int:
@@ -108,10 +135,10 @@ def smallest_capacity(
     """
     from walkmath.banded import BandedWalk
 
-    horizon = _checks.horizon(horizon)
-    overflow_target = _checks.probability("overflow_target", overflow_target)
+    horizon = checks.horizon(horizon)
+    overflow_target = checks.probability("overflow_target", overflow_target)
     if stockout_target is not None:
-        stockout_target = _checks.probability("stockout_target", stockout_target)
+        stockout_target = checks.probability("stockout_target", stockout_target)
 
     def meets(capacity: int) -> bool:
         probe = BandedWalk(walk.laws, walk.start, walk.low, capacity, walk.below, walk.above).outlook(horizon)

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import math
 
-from walkmath import _checks
+from walkmath import checks
 
 
 def ruin_probability(up: float, down: float, start: int, target: int) -> float:
@@ -49,10 +49,10 @@ def expected_duration(up: float, down: float, start: int, target: int) -> float:
 
 
 def _validate(up, down, start, target):
-    up = _checks.probability("up", up)
-    down = _checks.probability("down", down)
-    if up + down > 1.0 + _checks.SUM_TOLERANCE:
+    up = checks.probability("up", up)
+    down = checks.probability("down", down)
+    if up + down > 1.0 + checks.SUM_TOLERANCE:
         raise ValueError(f"up + down must be at most 1; got {up + down:.12g}")
-    target = _checks.whole("target", target, minimum=1)
-    start = _checks.whole("start", start, minimum=0, maximum=target)
+    target = checks.whole("target", target, minimum=1)
+    start = checks.whole("start", start, minimum=0, maximum=target)
     return up, down, start, target

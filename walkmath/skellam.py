@@ -10,7 +10,7 @@ import math
 
 import numpy as np
 
-from walkmath import _checks
+from walkmath import checks
 from walkmath.continuous import peak_relative_weights, time_within
 from walkmath.distribution import LevelDistribution
 
@@ -31,11 +31,11 @@ def continuous_level_distribution(up_rate: float, down_rate: float, t: float, st
     ``scipy.special.ive`` underflows (ive(1000, 2) = 0 though P(N = 1000) = 0.0126 for a = 1000,
     b = 0.001). The levels leave out at most ``SKELLAM_TAIL`` (1e-300) of mass on each side.
     """
-    up_rate = _checks.real("up_rate", up_rate, minimum=0.0)
-    down_rate = _checks.real("down_rate", down_rate, minimum=0.0)
+    up_rate = checks.real("up_rate", up_rate, minimum=0.0)
+    down_rate = checks.real("down_rate", down_rate, minimum=0.0)
     jump_rate = up_rate + down_rate
     t = time_within("t", t, JUMP_CAP / jump_rate if jump_rate > 0 else math.inf)
-    start = _checks.whole("start", start, minimum=-(10**12), maximum=10**12)
+    start = checks.whole("start", start, minimum=-(10**12), maximum=10**12)
     up, down = up_rate * t, down_rate * t
     # log P(N = k) - log P(N = k - 1) for every step of the range, lowest level first
     below = _log_ratios(down, up)  # log P(N = -k) - log P(N = 1 - k), k = 1, 2, ...

@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from walkmath import _checks
+from walkmath import checks
 from walkmath.continuous import BirthDeath, time_within, times_within
 
 # Largest number of units, of spares and of crews; largest failure or repair rate (per unit time).
@@ -36,11 +36,11 @@ class SparesPool:
     shortage_chain: BirthDeath = field(init=False, repr=False)
 
     def __post_init__(self):
-        units = _checks.whole("units", self.units, minimum=1, maximum=POOL_CAP)
-        spares = _checks.whole("spares", self.spares, minimum=0, maximum=POOL_CAP)
+        units = checks.whole("units", self.units, minimum=1, maximum=POOL_CAP)
+        spares = checks.whole("spares", self.spares, minimum=0, maximum=POOL_CAP)
         failure_rate = _rate("failure_rate", self.failure_rate)
         repair_rate = _rate("repair_rate", self.repair_rate)
-        crews = _checks.whole("crews", self.crews, minimum=1, maximum=POOL_CAP)
+        crews = checks.whole("crews", self.crews, minimum=1, maximum=POOL_CAP)
         failed = np.arange(units + spares + 1)
         operating = np.minimum(units, units + spares - failed)
         birth = failure_rate * operating
@@ -90,7 +90,7 @@ class SparesPool:
 def _rate(name: str, value) -> float:
     message = f"{name} must be a finite number above 0 and at most {POOL_RATE_CAP:g}; got {value!r}"
     try:
-        rate = _checks.real(name, value, minimum=0.0, maximum=POOL_RATE_CAP, strict_minimum=True)
+        rate = checks.real(name, value, minimum=0.0, maximum=POOL_RATE_CAP, strict_minimum=True)
     except ValueError:
         raise ValueError(message) from None
     return rate

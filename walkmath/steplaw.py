@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy import stats
 
-from walkmath import _checks
+from walkmath import checks
 
 # Upper tail dropped from infinite count laws. Far below the 1e-15 of mass the
 # design allows, because a tail probability of a sum of many periods leans on
@@ -49,10 +49,10 @@ class StepLaw:
     @classmethod
     def nearest(cls, up: float, down: float) -> StepLaw:
         """Nearest-neighbour step: +1 with ``up``, -1 with ``down``, 0 otherwise."""
-        up = _checks.probability("up", up)
-        down = _checks.probability("down", down)
+        up = checks.probability("up", up)
+        down = checks.probability("down", down)
         stay = 1.0 - up - down
-        if stay < -_checks.SUM_TOLERANCE:
+        if stay < -checks.SUM_TOLERANCE:
             raise ValueError(f"up + down must be at most 1; got {up + down:.12g}")
         return cls(-1, np.array([down, max(stay, 0.0), up]), label=f"nearest(up={up:g}, down={down:g})")
 
@@ -62,10 +62,10 @@ class StepLaw:
         items = list(pmf.items() if isinstance(pmf, Mapping) else pmf)
         if not items:
             raise ValueError("step probabilities must name at least one step")
-        steps = [_checks.whole("step", step) for step, _ in items]
+        steps = [checks.whole("step", step) for step, _ in items]
         if len(set(steps)) != len(steps):
             raise ValueError("step probabilities must name each step once")
-        weights = _checks.probability_vector("step probabilities", [w for _, w in items])
+        weights = checks.probability_vector("step probabilities", [w for _, w in items])
         lowest = min(steps)
         probs = np.zeros(max(steps) - lowest + 1)
         probs[np.array(steps) - lowest] = weights
@@ -74,7 +74,7 @@ class StepLaw:
     @classmethod
     def poisson(cls, mean: float) -> StepLaw:
         """Poisson counts 0, 1, 2, ... with the given mean, cut at ``COUNT_TAIL``."""
-        mean = _checks.real("mean", mean, minimum=0.0, maximum=1e6)
+        mean = checks.real("mean", mean, minimum=0.0, maximum=1e6)
         if mean == 0:
             return cls.fixed(0)
         return cls._counts(stats.poisson(mean), mean, math.sqrt(mean), f"poisson(mean={mean:g})")
@@ -82,8 +82,8 @@ class StepLaw:
     @classmethod
     def negative_binomial(cls, mean: float, variance: float) -> StepLaw:
         """Negative binomial counts from mean and variance (variance > mean: over-dispersed demand)."""
-        mean = _checks.real("mean", mean, minimum=0.0, maximum=1e6, strict_minimum=True)
-        variance = _checks.real("variance", variance, maximum=1e12)
+        mean = checks.real("mean", mean, minimum=0.0, maximum=1e6, strict_minimum=True)
+        variance = checks.real("variance", variance, maximum=1e12)
         if variance <= mean:
             raise ValueError(f"variance must exceed the mean ({mean:g}) for a negative binomial; got {variance:g}")
         success = mean / variance
@@ -94,15 +94,15 @@ class StepLaw:
     @classmethod
     def binomial(cls, trials: int, p: float) -> StepLaw:
         """Binomial counts: ``trials`` independent chances, each with probability ``p``."""
-        trials = _checks.whole("trials", trials, minimum=0, maximum=10**6)
-        p = _checks.probability("p", p)
+        trials = checks.whole("trials", trials, minimum=0, maximum=10**6)
+        p = checks.probability("p", p)
         counts = np.arange(trials + 1)
         return cls(0, stats.binom.pmf(counts, trials, p), label=f"binomial(trials={trials}, p={p:g})")
 
     @classmethod
     def fixed(cls, amount: int) -> StepLaw:
         """A step of exactly ``amount`` every period (a scheduled delivery, say)."""
-        amount = _checks.whole("amount", amount, minimum=-(10**9), maximum=10**9)
+        amount = checks.whole("amount", amount, minimum=-(10**9), maximum=10**9)
         return cls(amount, np.ones(1), label=f"fixed({amount})")
 
     @classmethod
@@ -111,11 +111,11 @@ class StepLaw:
         if isinstance(observations, Mapping):
             items = list(observations.items())
         else:
-            values, counts = np.unique([_checks.whole("observation", v) for v in observations], return_counts=True)
+            values, counts = np.unique([checks.whole("observation", v) for v in observations], return_counts=True)
             items = list(zip(values.tolist(), counts.tolist(), strict=True))
         if not items:
             raise ValueError("observations must hold at least one value")
-        counts = np.array([_checks.real("count", c, minimum=0.0) for _, c in items])
+        counts = np.array([checks.real("count", c, minimum=0.0) for _, c in items])
         if counts.sum() <= 0:
             raise ValueError("observation counts must have a positive total")
         return cls.from_pmf({int(v): c / counts.sum() for (v, _), c in zip(items, counts, strict=True)})

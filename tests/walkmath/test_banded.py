@@ -65,7 +65,7 @@ def test_backorder_counts_every_period_spent_short():
 
 
 def test_level_probs_are_built_only_when_read():
-    out = wm.BandedWalk(LAW, start=3, low=0, high=6).outlook(20)
+    out = wm.BandedWalk(LAW, start=3, low=0, high=6, below="stop").outlook(20)
     assert "level_probs" not in out.__dict__
     assert out.level_probs.shape == (21, 7)
     assert out.level_law(20).prob(3) == pytest.approx(out.final.prob(3), rel=1e-15)

@@ -101,3 +101,11 @@ def _span(minimum, maximum, low: str) -> str:
     if maximum is not None:
         return f" at most {maximum}"
     return ""
+
+
+# The rules at the ends of the band (design notes, section 3), declared once for
+# the engine, the planner's parameters and its forms.
+BELOW_RULES = ("backorder", "lost", "stop")
+ABOVE_RULES = ("spill", "stop")
+DEFAULT_BELOW = "backorder"
+DEFAULT_ABOVE = "spill"
