@@ -5,7 +5,7 @@ from planner.models import Scenario
 
 @admin.register(Scenario)
 class ScenarioAdmin(admin.ModelAdmin):
-    list_display = ["title", "owner", "kind", "stockout_target", "overflow_target", "updated"]
+    list_display = ["title", "owner", "kind", "headline_risk", "stockout_target", "overflow_target", "updated"]
     list_filter = ["kind"]
     search_fields = ["title", "notes", "owner__username"]
-    readonly_fields = ["created", "updated"]
+    readonly_fields = ["created", "updated", "headline_risk", "headline_span"]

@@ -1,4 +1,4 @@
-"""Saved planning scenarios. Parameters are JSON checked by ``planner.params``."""
+"""Saved planning scenarios. Parameters are JSON checked by the scenario's kind (``planner.kinds``)."""
 
 from django.conf import settings
 from django.core.exceptions import ValidationError
@@ -6,22 +6,27 @@ from django.db import models
 from django.db.models import Q
 from django.urls import reverse
 
-from planner.params import StockWalkParams
+from planner.kinds import get_kind
 
 
 class ScenarioKind(models.TextChoices):
-    STOCK_WALK = "stock_walk", "Stock walk"
+    # One line per kind in planner/kinds/ (its key) and a migration: the database refuses unknown kinds.
+    STOCK_PLAN = "stock_plan", "Stock plan"
 
 
 class Scenario(models.Model):
     owner = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.CASCADE, related_name="scenarios")
     title = models.CharField(max_length=120)
     notes = models.TextField(blank=True)
-    kind = models.CharField(max_length=32, choices=ScenarioKind.choices, default=ScenarioKind.STOCK_WALK)
+    kind = models.CharField(max_length=32, choices=ScenarioKind.choices, default=ScenarioKind.STOCK_PLAN)
     parameters = models.JSONField()
-    # Largest acceptable probability of at least one stock-out (overflow) within the horizon.
+    # Largest acceptable probability of at least one stock-out (overflow) within the horizon (fractions).
     stockout_target = models.FloatField(default=0.05)
     overflow_target = models.FloatField(default=0.05)
+    # Stock-out risk over the horizon, computed by the write services at each save so the list never
+    # recomputes plans; null for rows saved before it was kept.
+    headline_risk = models.FloatField(null=True, blank=True)
+    headline_span = models.CharField(max_length=60, blank=True)  # "56 days (8 weeks)"
     created = models.DateTimeField(auto_now_add=True)
     updated = models.DateTimeField(auto_now=True)
 
@@ -37,6 +42,10 @@ class Scenario(models.Model):
             models.CheckConstraint(
                 condition=Q(overflow_target__gt=0, overflow_target__lt=1), name="scenario_overflow_target_open_unit"
             ),
+            models.CheckConstraint(
+                condition=Q(headline_risk__isnull=True) | Q(headline_risk__gte=0, headline_risk__lte=1),
+                name="scenario_headline_risk_probability",
+            ),
         ]
 
     def __str__(self) -> str:
@@ -46,13 +55,16 @@ class Scenario(models.Model):
         return reverse("scenario_results", args=[self.pk])
 
     def clean(self) -> None:
-        if self.kind == ScenarioKind.STOCK_WALK:
-            try:
-                StockWalkParams.from_json(self.parameters)
-            except ValueError as exc:
-                raise ValidationError({"parameters": str(exc)}) from exc
+        try:
+            get_kind(self.kind).params_from_json(self.parameters)
+        except ValueError as exc:
+            raise ValidationError({"parameters": str(exc)}) from exc
 
     @property
-    def walk_params(self) -> StockWalkParams:
-        """The parameters as a dataclass (validated again on each access)."""
-        return StockWalkParams.from_json(self.parameters)
+    def params(self):
+        """The parameters as the kind's plain object (validated again on each access)."""
+        return get_kind(self.kind).params_from_json(self.parameters)
+
+    @property
+    def meets_target(self) -> bool | None:
+        return None if self.headline_risk is None else self.headline_risk <= self.stockout_target

@@ -1,35 +1,52 @@
-"""Writes: every change to a scenario goes through one of these functions."""
+"""Writes: every change to a scenario goes through one of these functions (keyword-only arguments).
+
+Each save stores the plan's headline stock-out risk (computed through the read
+service, with its cost check) so the scenario list never recomputes plans. A
+plan too large to compute raises ``walkmath.ComputeTooLarge`` and nothing is
+written.
+"""
 
 from __future__ import annotations
 
 from django.db import transaction
 
-from planner.models import Scenario, ScenarioKind
-from planner.params import StockWalkParams
+from planner.kinds import get_kind
+from planner.models import Scenario
+from planner.reading import plan_headline
 
-VARIANT_SUFFIX = " (what-if)"
+
+def _set_headline(scenario: Scenario, params) -> None:
+    risk, span = plan_headline(
+        kind=get_kind(scenario.kind),
+        params=params,
+        stockout_target=scenario.stockout_target,
+        overflow_target=scenario.overflow_target,
+    )
+    scenario.headline_risk, scenario.headline_span = risk, span[:60]
 
 
 def scenario_create(
     *,
     owner,
+    kind: str,
     title: str,
-    params: StockWalkParams,
+    params,
     notes: str = "",
     stockout_target: float = 0.05,
     overflow_target: float = 0.05,
 ) -> Scenario:
-    """A new stock-walk scenario owned by ``owner``; ValidationError if a field does not fit."""
+    """A new scenario of ``kind`` owned by ``owner``; ValidationError if a field does not fit."""
     scenario = Scenario(
         owner=owner,
         title=title,
         notes=notes,
-        kind=ScenarioKind.STOCK_WALK,
+        kind=kind,
         parameters=params.to_json(),
         stockout_target=stockout_target,
         overflow_target=overflow_target,
     )
     scenario.full_clean()
+    _set_headline(scenario, params)
     scenario.save()
     return scenario
 
@@ -38,7 +55,7 @@ def scenario_update(
     *,
     scenario: Scenario,
     title: str,
-    params: StockWalkParams,
+    params,
     notes: str = "",
     stockout_target: float,
     overflow_target: float,
@@ -49,21 +66,20 @@ def scenario_update(
     scenario.stockout_target = stockout_target
     scenario.overflow_target = overflow_target
     scenario.full_clean()
-    scenario.save(update_fields=["title", "notes", "parameters", "stockout_target", "overflow_target", "updated"])
+    _set_headline(scenario, params)
+    fields = ["title", "notes", "parameters", "stockout_target", "overflow_target", "headline_risk", "headline_span"]
+    scenario.save(update_fields=[*fields, "updated"])
     return scenario
 
 
-def scenario_copy(
-    *, scenario: Scenario, owner, params: StockWalkParams | None = None, title: str | None = None
-) -> Scenario:
-    """A new scenario for ``owner`` from ``scenario``, optionally with other parameters (a what-if variant)."""
-    if title is None:
-        title = (scenario.title[: 120 - len(VARIANT_SUFFIX)] + VARIANT_SUFFIX) if params else scenario.title
+def scenario_copy(*, scenario: Scenario, owner, title: str, params=None) -> Scenario:
+    """A new scenario named ``title`` for ``owner`` from ``scenario``, optionally with other parameters (a what-if)."""
     return scenario_create(
         owner=owner,
+        kind=scenario.kind,
         title=title,
         notes=scenario.notes,
-        params=params or scenario.walk_params,
+        params=params if params is not None else scenario.params,
         stockout_target=scenario.stockout_target,
         overflow_target=scenario.overflow_target,
     )

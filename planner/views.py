@@ -1,42 +1,58 @@
-"""Views: a permission-checked fetch, a form, one service call, then render or redirect."""
+"""Views, generic over scenario kinds: a permission-checked fetch, a form, one service call, then a response.
+
+What-if contract (GET ``scenario_outlook_json``; the CSV links take the same query):
+  query   the kind's what-if fields; empty ones keep the saved value; other keys (title,
+          csrfmiddlewaretoken) are ignored. Stock plan: start, high, no_capacity ("on" when the
+          capacity box is empty), horizon, up, down, step_table, arrivals_mean, demand_mean,
+          delivery_size.
+  200     {"figures": {name: {"data": [...], "layout": {...}}},
+           "summaries": {name: {"summary": text alternative, "table": CSV slug}},
+           "headline_html": the headline block, "params": the parameters used,
+           "changes": [the inputs that differ from the saved plan, in words]}
+          with a Server-Timing header "compute;dur=<ms>".
+  400     {"error": message, "fields": {field: [messages]}} (fields may be empty: a cost refusal).
+Preview (GET ``kind_preview``): 200 {"ready": true, "steps", "probs", "mean", "variance", "cycle",
+  "cycle_mean", "period", "summary"}; 200 {"ready": false, "message"} while required inputs are
+  missing (an untouched form shows no error); 400 {"errors": {field: [messages]}}.
+"""
 
 from __future__ import annotations
 
 import time
 
-import numpy as np
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.http import Http404, HttpResponse, JsonResponse
 from django.shortcuts import redirect, render
 from django.template.loader import render_to_string
 from django.views.decorators.http import require_GET, require_http_methods, require_POST
-from plotly.utils import PlotlyJSONEncoder
 
-from planner import services
-from planner.charts import figures_for, figures_script
-from planner.csv_export import TABLES, file_name, table_csv
-from planner.forms import ScenarioForm, StepLawForm, WhatIfForm, compute_size_error, scenario_initial
+from planner import reading, services
+from planner.csv_writer import file_name, table_csv
+from planner.forms import SaveAsNewForm, scenario_initial, scenario_values
+from planner.kinds import all_kinds, get_kind
 from planner.models import Scenario
-from planner.outlook import StockOutlook, Targets, run_outlook
 from planner.permissions import get_scenario_for
+from walkmath import ComputeTooLarge
 
-PREVIEW_FLOOR = 1e-6
+
+class InvalidChanges(ValueError):
+    def __init__(self, form):
+        self.fields = {name: list(errors) for name, errors in form.errors.items()}
+        super().__init__("; ".join(f"{name}: {' '.join(errors)}" for name, errors in self.fields.items()))
 
 
-def _outlook(scenario: Scenario, query) -> StockOutlook:
-    """The outlook of ``scenario`` with the what-if changes in ``query``; ValueError explains a bad one."""
-    form = WhatIfForm(query)
+def _changes(scenario: Scenario, data) -> dict:
+    form = get_kind(scenario.kind).changes_form(data)
     if not form.is_valid():
-        raise ValueError("; ".join(f"{name}: {' '.join(errors)}" for name, errors in form.errors.items()))
-    params = form.variant_of(scenario.walk_params)
-    targets = Targets(stockout=scenario.stockout_target, overflow=scenario.overflow_target)
-    return run_outlook(params=params, targets=targets)
+        raise InvalidChanges(form)
+    return form.changes()
 
 
-def _form_values(form: ScenarioForm) -> dict:
-    keys = ("title", "notes", "stockout_target", "overflow_target")
-    return {key: form.cleaned_data[key] for key in keys} | {"params": form.cleaned_data["params"]}
+def _results_context(result_reading: reading.Reading) -> dict:
+    charts = result_reading.kind.figures(result_reading.result)
+    figures = {name: chart["figure"] for name, chart in charts.items()}
+    return {"result": result_reading.result, "reading": result_reading, "charts": charts, "figures": figures}
 
 
 @login_required
@@ -47,26 +63,45 @@ def scenario_list(request):
 
 
 @login_required
-@require_http_methods(["GET", "POST"])
+@require_GET
 def scenario_new(request):
-    form = ScenarioForm(request.POST or None)
+    kinds = all_kinds()
+    if len(kinds) == 1:
+        return redirect("scenario_new_kind", kind=kinds[0].key)
+    return render(request, "planner/scenario_new.html", {"kinds": kinds})
+
+
+@login_required
+@require_http_methods(["GET", "POST"])
+def scenario_new_kind(request, kind: str):
+    kind = get_kind(kind)
+    form = kind.scenario_form(request.POST or None)
     if form.is_valid():
-        scenario = services.scenario_create(owner=request.user, **_form_values(form))
-        messages.success(request, f"Saved “{scenario.title}”.")
-        return redirect(scenario)
-    return render(request, "planner/scenario_form.html", {"form": form})
+        try:
+            scenario = services.scenario_create(owner=request.user, kind=kind.key, **scenario_values(form))
+        except ComputeTooLarge as exc:
+            form.add_error(None, f"Nothing was saved. {exc}")
+        else:
+            messages.success(request, f"Saved “{scenario.title}”.")
+            return redirect(scenario)
+    return render(request, "planner/scenario_form.html", {"form": form, "kind": kind})
 
 
 @login_required
 @require_http_methods(["GET", "POST"])
 def scenario_edit(request, pk: int):
     scenario = get_scenario_for(request.user, pk)
-    form = ScenarioForm(request.POST or None, initial=scenario_initial(scenario))
+    kind = get_kind(scenario.kind)
+    form = kind.scenario_form(request.POST or None, initial=scenario_initial(scenario, kind))
     if request.method == "POST" and form.is_valid():
-        services.scenario_update(scenario=scenario, **_form_values(form))
-        messages.success(request, f"Updated “{scenario.title}”.")
-        return redirect(scenario)
-    return render(request, "planner/scenario_form.html", {"form": form, "scenario": scenario})
+        try:
+            services.scenario_update(scenario=scenario, **scenario_values(form))
+        except ComputeTooLarge as exc:
+            form.add_error(None, f"Nothing was saved. {exc}")
+        else:
+            messages.success(request, f"Updated “{scenario.title}”.")
+            return redirect(scenario)
+    return render(request, "planner/scenario_form.html", {"form": form, "kind": kind, "scenario": scenario})
 
 
 @login_required
@@ -84,13 +119,11 @@ def scenario_delete(request, pk: int):
 @require_GET
 def scenario_results(request, pk: int):
     scenario = get_scenario_for(request.user, pk)
-    params = scenario.walk_params
-    context = {"scenario": scenario, "params": params, "whatif": WhatIfForm(), "tables": TABLES}
+    kind = get_kind(scenario.kind)
+    context = {"scenario": scenario, "kind": kind, "save_form": SaveAsNewForm()}
     try:
-        context["error"] = compute_size_error(params)
-        if not context["error"]:
-            context["result"] = result = _outlook(scenario, {})
-            context["figures_script"] = figures_script(result)
+        context["params"] = scenario.params
+        context |= _results_context(reading.scenario_reading(scenario=scenario))
     except ValueError as exc:
         context["error"] = str(exc)
     return render(request, "planner/scenario_results.html", context)
@@ -99,34 +132,42 @@ def scenario_results(request, pk: int):
 @login_required
 @require_GET
 def scenario_outlook_json(request, pk: int):
-    """Figures and headline for the what-if values in the query string; 400 with the message if unfit."""
+    """Figures and headline for the what-if values in the query string (contract at the top); 400 if unfit."""
     scenario = get_scenario_for(request.user, pk)
     began = time.perf_counter()
     try:
-        result = _outlook(scenario, request.GET)
+        result_reading = reading.scenario_reading(scenario=scenario, changes=_changes(scenario, request.GET))
     except ValueError as exc:
-        return JsonResponse({"error": str(exc)}, status=400)
-    headline = render_to_string("planner/_headline.html", {"result": result, "scenario": scenario}, request)
-    data = {"figures": figures_for(result), "headline_html": headline, "params": result.params.to_json()}
-    response = JsonResponse(data, encoder=PlotlyJSONEncoder)
-    response["Server-Timing"] = f"outlook;dur={1000 * (time.perf_counter() - began):.1f}"
+        return JsonResponse({"error": str(exc), "fields": getattr(exc, "fields", {})}, status=400)
+    context = _results_context(result_reading) | {"scenario": scenario}
+    charts = context["charts"]
+    data = {
+        "figures": context["figures"],
+        "summaries": {name: {"summary": c["summary"], "table": c["table"]} for name, c in charts.items()},
+        "headline_html": render_to_string(result_reading.kind.headline_template, context, request),
+        "params": result_reading.params.to_json(),
+        "changes": list(result_reading.changes),
+    }
+    response = JsonResponse(data)
+    response["Server-Timing"] = f"compute;dur={1000 * (time.perf_counter() - began):.1f}"
     return response
 
 
 @login_required
 @require_POST
 def scenario_variant_save(request, pk: int):
-    """Keep the current what-if values as a new scenario."""
+    """Keep the current what-if values as a new scenario under the name given."""
     scenario = get_scenario_for(request.user, pk)
-    form = WhatIfForm(request.POST)
+    name = SaveAsNewForm(request.POST)
     try:
-        if not form.is_valid():
-            raise ValueError("the what-if values are not valid")
+        if not name.is_valid():
+            raise ValueError(" ".join(name.errors["title"]))
+        params = reading.scenario_params(scenario=scenario, changes=_changes(scenario, request.POST))
         variant = services.scenario_copy(
-            scenario=scenario, owner=request.user, params=form.variant_of(scenario.walk_params)
+            scenario=scenario, owner=request.user, title=name.cleaned_data["title"], params=params
         )
     except ValueError as exc:
-        messages.error(request, f"Could not save the variant: {exc}")
+        messages.error(request, f"Could not save the new plan: {exc}")
         return redirect(scenario)
     messages.success(request, f"Saved the what-if as “{variant.title}”.")
     return redirect(variant)
@@ -136,36 +177,35 @@ def scenario_variant_save(request, pk: int):
 @require_GET
 def scenario_csv(request, pk: int, table: str):
     scenario = get_scenario_for(request.user, pk)
-    if table not in TABLES:
+    kind = get_kind(scenario.kind)
+    if table not in kind.tables:
         raise Http404("No such table")
     try:
-        result = _outlook(scenario, request.GET)
+        found = reading.scenario_reading(scenario=scenario, changes=_changes(scenario, request.GET))
     except ValueError as exc:
         return HttpResponse(str(exc), status=400, content_type="text/plain; charset=utf-8")
-    response = HttpResponse(table_csv(result, table, scenario.title), content_type="text/csv; charset=utf-8")
-    response["Content-Disposition"] = f'attachment; filename="{file_name(scenario.title, table)}"'
+    body = table_csv(kind.table_rows(found.result, table), title=scenario.title, changes=found.changes)
+    response = HttpResponse(body, content_type="text/csv; charset=utf-8")
+    response["Content-Disposition"] = (
+        f'attachment; filename="{file_name(scenario.title, table, whatif=found.is_whatif)}"'
+    )
     return response
 
 
 @login_required
 @require_GET
-def step_law_preview(request):
-    """The step law the form describes (first period of the cycle) and the cycle's mean change."""
-    form = StepLawForm(request.GET)
+def kind_preview(request, kind: str):
+    """The live preview of the kind's form (contract at the top)."""
+    kind = get_kind(kind)
+    form = kind.preview_form(request.GET)
+    if form is None:
+        raise Http404("This kind has no preview")
     if not form.is_valid():
-        return JsonResponse({"errors": {name: list(errors) for name, errors in form.errors.items()}}, status=400)
-    laws = form.cleaned_data["params"].step_laws()
-    first = laws[0]
-    # Chart only the steps that can be seen (>= 1e-6 of the largest); the summary uses the whole law.
-    visible = np.flatnonzero(first.probs >= PREVIEW_FLOOR * first.probs.max())
-    shown = slice(visible[0], visible[-1] + 1)
-    return JsonResponse(
-        {
-            "steps": first.steps[shown].tolist(),
-            "probs": first.probs[shown].tolist(),
-            "mean": first.mean,
-            "variance": first.variance,
-            "cycle": len(laws),
-            "cycle_mean": sum(law.mean for law in laws) / len(laws),
-        }
-    )
+        errors = form.errors.as_data()
+        if all(error.code == "required" for field in errors.values() for error in field):
+            return JsonResponse({"ready": False, "message": "Fill in the inputs to see the change law here."})
+        return JsonResponse({"errors": {name: list(errs) for name, errs in form.errors.items()}}, status=400)
+    try:
+        return JsonResponse(reading.law_preview(kind=kind, form=form))
+    except ValueError as exc:
+        return JsonResponse({"errors": {"__all__": [str(exc)]}}, status=400)

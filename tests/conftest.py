@@ -2,7 +2,7 @@
 
 import pytest
 
-from planner.params import StockWalkParams
+from planner.kinds.stock_plan.params import StockPlanParams
 
 PASSWORD = "crust-and-crumb-42"
 
@@ -28,7 +28,7 @@ def outsider(django_user_model):
 @pytest.fixture
 def small_params():
     """A quick, capacity-bound walk: +1 w.p. 0.3, -1 w.p. 0.4 on 0..8."""
-    return StockWalkParams(
+    return StockPlanParams(
         start=4, horizon=12, low=0, high=8, below="lost", above="spill", step_method="nearest", up=0.3, down=0.4
     )
 
@@ -37,7 +37,9 @@ def small_params():
 def scenario(owner, small_params):
     from planner.services import scenario_create
 
-    return scenario_create(owner=owner, title="Rye loaf shelf", params=small_params, notes="Back shelf.")
+    return scenario_create(
+        owner=owner, kind="stock_plan", title="Rye loaf shelf", params=small_params, notes="Back shelf."
+    )
 
 
 def pytest_configure(config):

@@ -1,34 +1,39 @@
-"""Template filters that show probabilities and expectations the way analysts read them."""
-
-import math
+"""Template filters over ``planner.formatting``: the one way numbers are shown on pages."""
 
 from django import template
 
-register = template.Library()
+from planner import formatting
 
-SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+register = template.Library()
 
 
 @register.filter
 def probability(value) -> str:
-    """0.0231 -> '2.31 %', 3.2e-9 -> '3.2 × 10⁻⁹', 0 -> '0', None -> '—'."""
-    if value is None:
-        return "—"
-    value = float(value)
-    if value == 0:
-        return "0"
-    if value >= 1e-3:
-        return f"{100 * value:.3g} %"
-    mantissa, exponent = f"{value:.2e}".split("e")
-    return f"{float(mantissa):g} × 10{str(int(exponent)).translate(SUPERSCRIPT)}"
+    """0.0231 -> '2.31 %', 3.2e-9 -> '3.2 × 10⁻⁹'."""
+    return formatting.probability(value)
 
 
 @register.filter
-def expectation(value, digits: int = 3) -> str:
-    """An expected count; infinity reads as 'not certain to happen'."""
-    if value is None:
-        return "—"
-    value = float(value)
-    if math.isinf(value):
-        return "not certain to happen"
-    return f"{value:.{int(digits)}g}"
+def units(value, unit: str = "units") -> str:
+    return formatting.units(value, unit)
+
+
+@register.filter
+def number(value) -> str:
+    return formatting.number(value)
+
+
+@register.filter
+def periods(value, period: str = "day") -> str:
+    """``{{ 56|periods:"day" }}`` -> '56 days (8 weeks)'."""
+    return formatting.periods(value, period)
+
+
+@register.filter
+def period_name(period: str, count=1) -> str:
+    return formatting.period_name(period, float(count))
+
+
+@register.filter
+def rate(value, period: str = "day") -> str:
+    return formatting.rate(value, period)

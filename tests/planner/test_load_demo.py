@@ -9,7 +9,7 @@ from django.core.management import call_command
 
 from planner.management.commands.load_demo import DEMO_FILE
 from planner.models import Scenario
-from planner.outlook import Targets, run_outlook
+from planner.reading import scenario_reading
 
 pytestmark = pytest.mark.django_db
 
@@ -33,10 +33,7 @@ def test_prints_working_sign_in_details_and_is_idempotent():
 
 def test_demo_scenarios_show_different_shapes():
     load()
-    results = {
-        s.title: run_outlook(params=s.walk_params, targets=Targets(s.stockout_target, s.overflow_target))
-        for s in Scenario.objects.all()
-    }
+    results = {s.title: scenario_reading(scenario=s).result for s in Scenario.objects.all()}
     drift = [r for r in results.values() if r.params.high is None and r.cycle_mean < 0]
     bound = [r for r in results.values() if r.params.high is not None and r.spilled_units and r.overflow_risk > 0.1]
     weekly = [r for r in results.values() if r.params.delivery_every == 7 and len(r.laws) == 7]
@@ -49,3 +46,8 @@ def test_demo_scenarios_show_different_shapes():
 def test_demo_text_stays_in_the_fictional_island():
     text = DEMO_FILE.read_text()
     assert "Saltmarrow" in text and ".invalid" in text
+
+
+def test_every_demo_plan_has_its_headline_stored():
+    load()
+    assert not Scenario.objects.filter(headline_risk__isnull=True).exists()

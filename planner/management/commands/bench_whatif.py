@@ -27,7 +27,7 @@ class Command(BaseCommand):
         client = Client(HTTP_HOST="localhost")
         client.force_login(user)
         for scenario in Scenario.objects.filter(owner=user).order_by("pk"):
-            params = scenario.walk_params
+            params = scenario.params
             url = reverse("scenario_outlook_json", args=[scenario.pk])
             query = {"start": max(params.low, params.start - 1), "horizon": params.horizon}
             client.get(url, query)  # warm caches (imports, plotly validators)

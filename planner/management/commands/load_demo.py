@@ -9,8 +9,8 @@ from django.core.management.base import BaseCommand
 from django.db import transaction
 
 from planner import services
+from planner.kinds import get_kind
 from planner.models import Scenario
-from planner.params import StockWalkParams
 
 DEMO_FILE = Path(settings.BASE_DIR) / "fixtures" / "demo_scenarios.json"
 
@@ -43,10 +43,11 @@ class Command(BaseCommand):
             )
 
     def _load(self, user, item: dict) -> None:
+        kind = get_kind(item.get("kind", "stock_plan"))
         values = {
             "title": item["title"],
             "notes": item["notes"],
-            "params": StockWalkParams.from_json(item["parameters"]),
+            "params": kind.params_from_json(item["parameters"]),
             "stockout_target": item["stockout_target"],
             "overflow_target": item["overflow_target"],
         }
@@ -54,4 +55,4 @@ class Command(BaseCommand):
         if existing:
             services.scenario_update(scenario=existing, **values)
         else:
-            services.scenario_create(owner=user, **values)
+            services.scenario_create(owner=user, kind=kind.key, **values)

@@ -1,4 +1,4 @@
-"""run_outlook against a brute-force Markov chain in exact rational arithmetic (fractions).
+"""The stock plan's job (StockJob.run) against a brute-force Markov chain in exact rational arithmetic (fractions).
 
 The reference walks every (level, stocked-out?, overflowed?) state period by
 period, applying the band rules of the design notes (section 3) literally, so
@@ -6,16 +6,30 @@ it shares no code with walkmath's banded sweep.
 """
 
 from collections import defaultdict
+from dataclasses import dataclass
 from fractions import Fraction
 
 import numpy as np
 import pytest
 from scipy import stats
 
-from planner.outlook import Targets, run_outlook
-from planner.params import CountLaw, StockWalkParams
+from planner.kinds.stock_plan.compute import StockJob
+from planner.kinds.stock_plan.params import CountLaw, StockPlanParams
+
+
+@dataclass(frozen=True)
+class Targets:
+    stockout: float
+    overflow: float
+
 
 TARGETS = Targets(stockout=0.05, overflow=0.05)
+
+
+def run_outlook(*, params, targets):
+    """Every part of the page, as the read service runs it when the budget allows all of them."""
+    job = StockJob(params, targets.stockout, targets.overflow)
+    return job.run({part.name for part in job.parts()})
 
 
 def reference_chain(laws, *, start, low, high, below, above, horizon):
@@ -70,7 +84,7 @@ QUARTER = {-1: Fraction(1, 4), 0: Fraction(1, 2), 1: Fraction(1, 4)}
 @pytest.mark.parametrize("below", ["backorder", "lost", "stop"])
 @pytest.mark.parametrize(("high", "above"), [(None, "spill"), (5, "spill"), (5, "stop")])
 def test_table_walk_with_deliveries_matches_exact_chain(below, high, above):
-    params = StockWalkParams(
+    params = StockPlanParams(
         start=2,
         horizon=10,
         low=0,
@@ -93,7 +107,7 @@ def test_table_walk_with_deliveries_matches_exact_chain(below, high, above):
     np.testing.assert_allclose(out.lost_units, as_floats(curves["lost"]), rtol=1e-12, atol=0)
     np.testing.assert_allclose(out.spilled_units, as_floats(curves["spilled"]), rtol=1e-12, atol=0)
     expected_final = np.array([float(final.get(int(level), 0)) for level in out.levels])
-    np.testing.assert_allclose(result.final_probs, expected_final, rtol=1e-12, atol=0)
+    np.testing.assert_allclose(result.outlook.final.probs, expected_final, rtol=1e-12, atol=0)
     np.testing.assert_allclose(result.level_probs[-1], expected_final, rtol=1e-12, atol=0)
     if below == "lost":
         assert result.lost_units == pytest.approx(float(sum(curves["lost"])), rel=1e-12)
@@ -101,7 +115,7 @@ def test_table_walk_with_deliveries_matches_exact_chain(below, high, above):
 
 
 def test_risk_by_start_and_smallest_start_match_the_chain():
-    params = StockWalkParams(
+    params = StockPlanParams(
         start=3, horizon=8, low=0, high=7, below="lost", above="spill", step_method="nearest", up=0.25, down=0.5
     )
     targets = Targets(stockout=0.2, overflow=0.3)
@@ -115,13 +129,15 @@ def test_risk_by_start_and_smallest_start_match_the_chain():
     np.testing.assert_allclose(result.start_risk.stockout, [float(exact[s][0]) for s in range(8)], rtol=1e-12)
     np.testing.assert_allclose(result.start_risk.overflow, [float(exact[s][1]) for s in range(8)], rtol=1e-12)
     meeting = [s for s in range(8) if exact[s][0] <= Fraction(1, 5) and exact[s][1] <= Fraction(3, 10)]
-    assert result.smallest_start == (meeting[0] if meeting else None)
+    assert result.both_answer.value == (meeting[0] if meeting else None)
+    alone = [s for s in range(8) if exact[s][0] <= Fraction(1, 5)]
+    assert result.start_answer.value == alone[0]
 
 
 def test_profiled_poisson_walk_matches_skellam_chain():
     # Reference step laws: Skellam(arrivals mean, demand mean x factor) from scipy.stats.skellam,
     # cut at |step| <= 40 (dropped mass below 1e-30 for these means), as Fractions of the floats.
-    params = StockWalkParams(
+    params = StockPlanParams(
         start=4,
         horizon=6,
         low=0,
@@ -148,19 +164,19 @@ def test_profiled_poisson_walk_matches_skellam_chain():
     np.testing.assert_allclose(result.outlook.lost_units, as_floats(curves["lost"]), rtol=1e-10, atol=0)
     np.testing.assert_allclose(result.outlook.spilled_units, as_floats(curves["spilled"]), rtol=1e-10, atol=0)
     expected_final = [float(final.get(int(level), 0)) for level in result.outlook.levels]
-    np.testing.assert_allclose(result.final_probs, expected_final, rtol=1e-10, atol=1e-300)
+    np.testing.assert_allclose(result.outlook.final.probs, expected_final, rtol=1e-10, atol=1e-300)
 
 
 def test_mean_periods_to_stockout_follows_walds_identity():
     # Skip-free downward walk, no capacity: E[first passage below 0 from start s] = (s + 1) / (down - up)
     # (Wald's identity; Feller, An Introduction to Probability Theory, vol. 1, ch. XIV).
-    params = StockWalkParams(start=6, horizon=20, low=0, below="stop", step_method="nearest", up=0.01, down=0.045)
+    params = StockPlanParams(start=6, horizon=20, low=0, below="stop", step_method="nearest", up=0.01, down=0.045)
     result = run_outlook(params=params, targets=TARGETS)
     assert result.mean_periods_to_stockout == pytest.approx(7 / 0.035, rel=1e-9)
 
 
 def test_normal_approximation_uses_the_whole_cycle():
-    params = StockWalkParams(
+    params = StockPlanParams(
         start=30,
         horizon=14,
         low=0,
@@ -192,4 +208,53 @@ def test_headline_figures_read_the_outlook(small_params):
     assert result.meets_overflow_target is False  # from 4 of 8, twelve periods surely risk more than 1e-6
     no_cap = run_outlook(params=small_params.replace(high=None, below="stop"), targets=TARGETS)
     assert no_cap.overflow_risk is None and no_cap.spilled_units is None and no_cap.lost_units is None
-    assert no_cap.smallest_capacity is None
+    assert no_cap.capacity_answer is None and no_cap.both_answer is None
+
+
+def _exact_risks(law, *, start, high, horizon):
+    curves, _ = reference_chain([law], start=start, low=0, high=high, below="lost", above="spill", horizon=horizon)
+    return curves["stockout"][-1], curves["overflow"][-1]
+
+
+def test_separate_sizing_answers_match_the_exact_chain():
+    # Upward drift on 0..high: the stock-out target and the overflow target pull the start in opposite
+    # directions, so each answer is checked on its own (exact rational chain, fractions).
+    law = {-1: Fraction(3, 10), 0: Fraction(3, 10), 1: Fraction(2, 5)}
+    params = StockPlanParams(
+        start=2, horizon=10, low=0, high=6, below="lost", above="spill", step_method="nearest", up=0.4, down=0.3
+    )
+    result = run_outlook(params=params, targets=Targets(stockout=0.1, overflow=0.3))
+    stockout_by_start = {s: _exact_risks(law, start=s, high=6, horizon=10)[0] for s in range(7)}
+    assert result.start_answer.value == min(s for s, r in stockout_by_start.items() if r <= Fraction(1, 10))
+    capacity = result.capacity_answer.value
+    overflow_at = {c: _exact_risks(law, start=2, high=c, horizon=10)[1] for c in (capacity - 1, capacity)}
+    assert overflow_at[capacity] <= Fraction(3, 10) < overflow_at[capacity - 1]
+    # The engine gives the same numbers (walkmath.BandedWalk sizing on the same walk).
+    walk = params.walk()
+    assert result.start_answer.value == walk.smallest_start(10, stockout_target=0.1)
+    assert capacity == walk.smallest_capacity(10, overflow_target=0.3)
+    assert result.both_answer.value == walk.smallest_start(10, stockout_target=0.1, overflow_target=0.3)
+
+
+def test_unmet_target_reports_the_best_achievable_and_what_would_meet_it():
+    # Strong downward drift over a long horizon: no start stock within the capacity meets 1e-6.
+    params = StockPlanParams(
+        start=5, horizon=60, low=0, high=10, below="lost", above="spill", step_method="nearest", up=0.1, down=0.5
+    )
+    result = run_outlook(params=params, targets=Targets(stockout=1e-6, overflow=0.5))
+    answer = result.start_answer
+    assert answer.value is None
+    risk = result.start_risk
+    assert answer.best_risk == risk.stockout.min() and answer.best_at == int(risk.starts[np.argmin(risk.stockout)])
+    assert answer.best_risk > 1e-6
+    assert "No start stock from 0 to 10 units" in answer.advice and "Raise the capacity" in answer.advice
+
+
+def test_optional_parts_are_left_out_with_a_note():
+    params = StockPlanParams(
+        start=4, horizon=12, low=0, high=8, below="lost", above="spill", step_method="nearest", up=0.3, down=0.4
+    )
+    job = StockJob(params, 0.05, 0.05)
+    result = job.run({part.name for part in job.parts() if part.required})
+    assert result.capacity_answer is None and result.mean_periods_to_stockout is None
+    assert len(result.left_out) == 2 and "smallest capacity" in result.left_out[0]

@@ -1,29 +1,28 @@
-"""Plotly figures carry the engine's numbers, the targets and a log switch."""
+"""Charts are plain plotly JSON carrying the engine's numbers, the targets, a log switch and a text alternative."""
 
-import base64
 import json
 
 import numpy as np
 import pytest
-from plotly.utils import PlotlyJSONEncoder
 
-from planner.charts import HEATMAP_FLOOR, figures_for, figures_script
-from planner.outlook import Targets, run_outlook
-from planner.params import StockWalkParams
+from planner.formatting import probability
+from planner.kinds.stock_plan.charts import HEATMAP_FLOOR, charts_for
+from planner.kinds.stock_plan.params import StockPlanParams
+from planner.kinds.stock_plan.tables import TABLES
+from tests.planner.kinds.stock_plan.test_compute import Targets, run_outlook
+
+
+def figures_for(result) -> dict:
+    return {name: chart["figure"] for name, chart in charts_for(result).items()}
 
 
 def values(encoded) -> np.ndarray:
-    """Plotly's typed-array encoding ({'dtype', 'bdata', 'shape'}: base64 of the raw array) or a plain list."""
-    if isinstance(encoded, dict):
-        array = np.frombuffer(base64.b64decode(encoded["bdata"]), dtype=encoded["dtype"])
-        shape = encoded.get("shape")
-        return array.reshape([int(n) for n in str(shape).split(",")]) if shape else array
     return np.asarray(encoded)
 
 
 @pytest.fixture(scope="module")
 def result():
-    params = StockWalkParams(
+    params = StockPlanParams(
         start=3,
         horizon=15,
         low=0,
@@ -36,13 +35,26 @@ def result():
     return run_outlook(params=params, targets=Targets(stockout=0.07, overflow=0.2))
 
 
-def test_every_figure_is_present_and_serialisable(result):
+def test_floor_and_capacity_lines_are_drawn(result):
+    layout = figures_for(result)["outlook"]["layout"]
+    assert [shape["y0"] for shape in layout["shapes"]] == [-0.5, 9.5]
+    assert [note["text"] for note in layout["annotations"]] == ["safety floor", "capacity"]
+
+
+def test_every_figure_is_present_and_plain_json(result):
     figures = figures_for(result)
     assert set(figures) == {"outlook", "risk", "start", "horizon", "normal"}
-    data = json.loads(json.dumps(figures, cls=PlotlyJSONEncoder))
-    assert all(fig["data"] for fig in data.values())
-    script = figures_script(result)
-    assert script.startswith('<script id="figures" type="application/json">') and "</script>" in script
+    # Plain dicts and lists: the standard JSON encoder writes them, no plotly encoder needed.
+    data = json.loads(json.dumps(figures, allow_nan=False))
+    assert all(fig["data"] and set(fig) == {"data", "layout"} for fig in data.values())
+
+
+def test_each_chart_has_a_summary_and_a_table(result):
+    charts = charts_for(result)
+    assert all(chart["table"] in TABLES and chart["summary"].endswith(".") for chart in charts.values())
+    assert probability(result.stockout_risk) in charts["risk"]["summary"]
+    assert "over 15 days" in charts["risk"]["summary"]
+    assert "day" in charts["risk"]["figure"]["layout"]["xaxis"]["title"]["text"]
 
 
 def test_risk_figure_has_curves_and_target_lines(result):

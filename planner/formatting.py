@@ -1,0 +1,108 @@
+"""The one number formatter: probabilities, units, periods and rates as analysts read them.
+
+Templates use it through ``planner_format``; charts use it for their text
+alternatives. CSV files never use it: they keep plain machine numbers.
+"""
+
+from __future__ import annotations
+
+import math
+
+SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+# Below this a probability is written as a power of ten (0.1 %).
+PERCENT_FLOOR = 1e-3
+# Above this (and below 1) a probability would round to "100 %"; it is written "> 99.9 %" instead.
+NEAR_CERTAIN = 0.9995
+
+PERIODS = {
+    "day": ("day", "days"),
+    "week": ("week", "weeks"),
+    "shift": ("shift", "shifts"),
+    "month": ("month", "months"),
+}
+
+
+def scientific(value: float, digits: int = 3) -> str:
+    """6.63e-12 -> '6.63 × 10⁻¹²' (``digits`` significant digits, trailing zeros dropped)."""
+    mantissa, exponent = f"{value:.{digits - 1}e}".split("e")
+    return f"{float(mantissa):g} × 10{str(int(exponent)).translate(SUPERSCRIPT)}"
+
+
+def probability(value) -> str:
+    """0.0231 -> '2.31 %', 6.63e-12 -> '6.63 × 10⁻¹²', 0 -> '0 %', None -> '—'."""
+    if value is None:
+        return "—"
+    value = float(value)
+    if value == 0:
+        return "0 %"
+    if value >= 1:
+        return "100 %"
+    if value > NEAR_CERTAIN:
+        return "> 99.9 %"
+    if float(f"{value:.2e}") >= PERCENT_FLOOR:
+        return f"{100 * value:.3g} %"
+    return scientific(value)
+
+
+def number(value, digits: int = 3) -> str:
+    """Plain count or amount: 1100.4 -> '1,100', 3.4567 -> '3.46', 2.5e-5 -> '2.5 × 10⁻⁵', 1e13 -> '1 × 10¹³'."""
+    if value is None:
+        return "—"
+    value = float(value)
+    if value == 0:
+        return "0"
+    size = abs(value)
+    if size >= 1e9 or size < 1e-3:
+        return scientific(value, digits)
+    if size >= 10**digits:
+        return f"{value:,.0f}"
+    rounded = float(f"{value:.{digits}g}")
+    if rounded == int(rounded):
+        return f"{rounded:,.0f}"
+    decimals = digits - 1 - math.floor(math.log10(abs(rounded)))
+    return f"{rounded:.{decimals}f}".rstrip("0").rstrip(".")
+
+
+def units(value, unit: str = "units") -> str:
+    """'12 units', '3.46 units'; '—' for None."""
+    return "—" if value is None else f"{number(value)} {unit}"
+
+
+def period_name(period: str, count: float = 1) -> str:
+    """'day' or 'days' for ``count``; an unknown period reads as 'period(s)'."""
+    one, many = PERIODS.get(period, ("period", "periods"))
+    return one if count == 1 else many
+
+
+def periods(value, period: str = "day") -> str:
+    """A number of periods in the scenario's period: '56 days (8 weeks)', '9.53 × 10¹² days'.
+
+    ``inf`` reads as 'not certain to happen'; a value with ``at_least`` set (a
+    lower bound from the engine) reads as 'more than ...'.
+    """
+    if value is None:
+        return "—"
+    if math.isinf(float(value)):
+        return "not certain to happen"
+    text = f"{number(value)} {period_name(period, float(value))}"
+    if getattr(value, "at_least", False):
+        return f"more than {text}"
+    if period == "day" and float(value) == int(value) and value >= 14 and int(value) % 7 == 0:
+        text += f" ({int(value) // 7} weeks)"
+    return text
+
+
+def rate(value, period: str = "day", unit: str = "units") -> str:
+    """'3.4 units per day'; a negative mean change reads with a minus sign: '−0.12 units per day'."""
+    if value is None:
+        return "—"
+    text = number(abs(value))
+    sign = "−" if value < 0 and text != "0" else ""
+    return f"{sign}{text} {unit} per {period_name(period)}"
+
+
+def percent_input(value) -> str:
+    """A stored fraction as the percentage an analyst types back: 0.05 -> '5', 1e-6 -> '0.0001'."""
+    if value is None:
+        return ""
+    return f"{100 * float(value):.6g}"

@@ -1,0 +1,118 @@
+"""Scenario kinds: each lives in one package under ``planner/kinds/`` and registers itself here.
+
+Shared code (models, services, the read service, views) finds a kind through
+``get_kind``; it never imports a kind, and a kind never imports another kind.
+``discover()`` runs once from the app config and imports every package here,
+so each kind's ``register(...)`` line runs.
+"""
+
+from __future__ import annotations
+
+import importlib
+import pkgutil
+from collections.abc import Iterator, Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from django.http import Http404
+
+_KINDS: dict[str, Kind] = {}
+
+
+@dataclass(frozen=True)
+class Part:
+    """One engine call a page makes, priced before any of it runs.
+
+    ``required`` parts make the page; optional ones (a sizing search, a mean
+    time) are left out, with a note, when the request's budget cannot cover them.
+    """
+
+    name: str
+    units: int
+    required: bool = True
+
+
+class Kind:
+    """What a scenario kind provides to the shared plumbing; subclass it in the kind's package.
+
+    Parameters are a plain frozen object with ``to_json``; results are whatever
+    the kind's charts, tables and templates read.
+    """
+
+    key: str = ""  # the ScenarioKind value stored on the model
+    label: str = ""
+    form_template: str = ""  # fields of the create/edit form
+    headline_template: str = ""  # the figures above the charts (also sent with each what-if)
+    whatif_template: str = ""  # the what-if inputs
+    tables: Mapping[str, str] = {}  # CSV slug -> what the table holds
+
+    def params_from_json(self, data: dict) -> Any:
+        """Saved JSON (old shapes included) -> parameters; ValueError naming what is wrong."""
+        raise NotImplementedError
+
+    def scenario_form(self, data=None, *, initial=None):
+        """The create/edit form; when valid, ``cleaned_data["params"]`` holds the parameters."""
+        raise NotImplementedError
+
+    def form_initial(self, params) -> dict:
+        raise NotImplementedError
+
+    def changes_form(self, data):
+        """The what-if form; when valid, ``.changes()`` is a dict of the values to change."""
+        raise NotImplementedError
+
+    def apply_changes(self, params, changes: Mapping) -> Any:
+        """``params`` with ``changes``; ValueError naming the input when they do not fit."""
+        raise NotImplementedError
+
+    def describe_changes(self, saved, variant) -> list[str]:
+        """The inputs that differ, in the analyst's words ('start stock 4 → 2 units')."""
+        raise NotImplementedError
+
+    def prepare(self, params, targets):
+        """A job: laws built once; ``.parts()`` prices each engine call, ``.run(parts)`` computes."""
+        raise NotImplementedError
+
+    def headline(self, result) -> tuple[float | None, str]:
+        """The stock-out risk the scenario list shows and its span ('over 8 weeks')."""
+        raise NotImplementedError
+
+    def figures(self, result) -> dict[str, dict]:
+        """Charts as plain plotly JSON dicts, each with a ``summary`` sentence and its ``table``."""
+        raise NotImplementedError
+
+    def table_rows(self, result, table: str) -> Iterator[list]:
+        """Header row then data rows of one CSV table (plain machine numbers)."""
+        raise NotImplementedError
+
+    def preview_form(self, data):
+        """The form behind the live preview (None: the kind has no preview)."""
+        return None
+
+    def preview(self, form) -> dict:
+        raise NotImplementedError
+
+
+def register(kind: Kind) -> Kind:
+    if kind.key in _KINDS:
+        raise ValueError(f"scenario kind {kind.key!r} is registered twice")
+    _KINDS[kind.key] = kind
+    return kind
+
+
+def get_kind(key: str) -> Kind:
+    """The registered kind ``key``; Http404 for an unknown one (it only arrives from URLs and rows)."""
+    try:
+        return _KINDS[key]
+    except KeyError:
+        raise Http404("No such scenario kind") from None
+
+
+def all_kinds() -> list[Kind]:
+    return list(_KINDS.values())
+
+
+def discover() -> None:
+    """Import every kind package under planner/kinds (each registers itself once)."""
+    for module in pkgutil.iter_modules(__path__):
+        importlib.import_module(f"{__name__}.{module.name}")

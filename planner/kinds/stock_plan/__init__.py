@@ -1,0 +1,91 @@
+"""The stock plan: a stock level moved each period by demand, deliveries and supply.
+
+Everything this kind needs lives in this package: ``params`` (parameters and
+their laws), ``forms`` (parse and validate), ``compute`` (walkmath calls,
+priced first), ``whatif`` (changes on a saved plan), ``charts`` and
+``tables``. The last line registers it.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from planner.formatting import rate
+from planner.kinds import Kind, Part, register
+from planner.kinds.stock_plan import charts, tables
+from planner.kinds.stock_plan.compute import StockJob
+from planner.kinds.stock_plan.forms import ChangeLawForm, StockPlanForm, WhatIfForm, form_initial
+from planner.kinds.stock_plan.params import StockPlanParams
+from planner.kinds.stock_plan.whatif import apply_changes, describe_changes
+
+# The preview charts the changes that can be seen (>= 1e-6 of the most likely one); its summary uses the whole law.
+PREVIEW_FLOOR = 1e-6
+
+
+class StockPlan(Kind):
+    key = "stock_plan"
+    label = "Stock plan"
+    form_template = "planner/kinds/stock_plan/form_fields.html"
+    headline_template = "planner/kinds/stock_plan/headline.html"
+    whatif_template = "planner/kinds/stock_plan/whatif.html"
+    tables = tables.TABLES
+
+    def params_from_json(self, data):
+        return StockPlanParams.from_json(data)
+
+    def scenario_form(self, data=None, *, initial=None):
+        return StockPlanForm(data, initial=initial)
+
+    def form_initial(self, params):
+        return form_initial(params)
+
+    def changes_form(self, data):
+        return WhatIfForm(data)
+
+    def apply_changes(self, params, changes):
+        return apply_changes(params, changes)
+
+    def describe_changes(self, saved, variant):
+        return describe_changes(saved, variant)
+
+    def prepare(self, params, stockout_target, overflow_target):
+        return StockJob(params, stockout_target, overflow_target)
+
+    def figures(self, result):
+        return charts.charts_for(result)
+
+    def table_rows(self, result, table):
+        return tables.ROWS[table](result)
+
+    def preview_form(self, data):
+        return ChangeLawForm(data)
+
+    def preview_parts(self, form) -> list[Part]:
+        """The preview builds one law: priced as supply width x demand width (one convolution)."""
+        params = form.cleaned_data["params"]
+        if params.step_method != "net":
+            return [Part("preview", len(params.table) or 3)]
+        scale = params.profile[0] if params.profile else 1.0
+        supply = params.arrivals.width_bound() if params.arrivals else 1
+        return [Part("preview", supply * params.demand.width_bound(scale))]
+
+    def preview(self, form) -> dict:
+        """The first period's change law and the cycle's mean change (one law built, never the whole cycle)."""
+        params = form.cleaned_data["params"]
+        first = params.first_law()
+        visible = np.flatnonzero(first.probs >= PREVIEW_FLOOR * first.probs.max())
+        shown = slice(visible[0], visible[-1] + 1)
+        return {
+            "ready": True,
+            "steps": first.steps[shown].tolist(),
+            "probs": first.probs[shown].tolist(),
+            "mean": first.mean,
+            "variance": first.variance,
+            "cycle": params.cycle_length,
+            "cycle_mean": params.mean_change,
+            "period": params.period,
+            "summary": f"Mean change {rate(params.mean_change, params.period)}",
+        }
+
+
+register(StockPlan())

@@ -1,0 +1,95 @@
+"""The read service: saved parameters + what-if changes -> one costed computation -> a result.
+
+Every page, what-if update, CSV download and the headline stored at save go
+through here, so the cost check happens once and in one place: each engine
+call the page would make is priced with the engine's cost model
+(``walk.cost``, level·period·jump work units) and the request is refused
+before any of it runs when the required calls exceed
+``settings.PLANNER_COMPUTE_CAP``. Optional figures (a sizing search, a mean
+time) are left out, with a note, when the remaining budget cannot cover them.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from django.conf import settings
+
+from planner.kinds import Kind, get_kind
+from walkmath import ComputeTooLarge
+
+
+@dataclass(frozen=True, eq=False)
+class Reading:
+    """A computed result and where it came from (the saved plan, or a what-if on it)."""
+
+    kind: Kind
+    params: Any
+    result: Any
+    changes: tuple[str, ...]  # the inputs that differ from the saved plan, in the analyst's words
+
+    @property
+    def is_whatif(self) -> bool:
+        return bool(self.changes)
+
+
+def saved_params(scenario) -> Any:
+    return get_kind(scenario.kind).params_from_json(scenario.parameters)
+
+
+def _allowed(job) -> set[str]:
+    """Names of the parts this request computes; ComputeTooLarge if the required ones exceed the cap."""
+    cap = settings.PLANNER_COMPUTE_CAP
+    parts = job.parts()
+    spent = sum(part.units for part in parts if part.required)
+    if spent > cap:
+        raise ComputeTooLarge(job.refusal(spent, cap))
+    allowed = {part.name for part in parts if part.required}
+    for part in parts:
+        if not part.required and spent + part.units <= cap:
+            spent += part.units
+            allowed.add(part.name)
+    return allowed
+
+
+def scenario_params(*, scenario, changes: Mapping | None = None) -> Any:
+    """The saved parameters with ``changes`` (a kind's what-if values) applied; ValueError naming the input."""
+    kind = get_kind(scenario.kind)
+    saved = kind.params_from_json(scenario.parameters)
+    return kind.apply_changes(saved, changes) if changes else saved
+
+
+def law_preview(*, kind: Kind, form) -> dict:
+    """The kind's live preview of a valid form, refused over the cap like any page."""
+    cap = settings.PLANNER_COMPUTE_CAP
+    units = sum(part.units for part in kind.preview_parts(form))
+    if units > cap:
+        raise ComputeTooLarge(
+            f"This change law is too large to draw here (about {units / cap:.1f} times this server's limit); "
+            "count in larger units or give a smaller mean."
+        )
+    return kind.preview(form)
+
+
+def scenario_reading(*, scenario, changes: Mapping | None = None) -> Reading:
+    """The scenario's result, with ``changes`` (a kind's what-if values) applied when given.
+
+    Raises ValueError (ComputeTooLarge included) whose message names the input
+    to change; nothing is computed before the cost check passes.
+    """
+    kind = get_kind(scenario.kind)
+    saved = kind.params_from_json(scenario.parameters)
+    params = kind.apply_changes(saved, changes) if changes else saved
+    job = kind.prepare(params, scenario.stockout_target, scenario.overflow_target)
+    result = job.run(_allowed(job))
+    described = tuple(kind.describe_changes(saved, params)) if params != saved else ()
+    return Reading(kind=kind, params=params, result=result, changes=described)
+
+
+def plan_headline(*, kind: Kind, params, stockout_target: float, overflow_target: float) -> tuple[float, str]:
+    """The headline stock-out risk of a plan about to be saved and its span (the page's cost check first)."""
+    job = kind.prepare(params, stockout_target, overflow_target)
+    _allowed(job)
+    return job.headline()
