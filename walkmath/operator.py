@@ -110,7 +110,8 @@ class Forward:
                 start, stop = min(start, self.band_lo), max(stop, self.band_lo + 1)
         if rose.any():
             mass[self.hold_high, self.band_hi] += rose[self.hold_high]
-            stop = max(stop, self.band_hi + 1)
+            if self.hold_high.any():
+                start, stop = min(start, self.band_hi), max(stop, self.band_hi + 1)
         if not self.walks_below:
             start = max(start, self.band_lo)
         return (start, stop - 1), Flows(fell, rose, lost_units, spilled_units)

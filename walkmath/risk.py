@@ -49,7 +49,7 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
     grid_low = walk.low - (horizon * walk.max_down if walk.below == "backorder" else 0)
     grid_high = walk.high if walk.high is not None else top + horizon * walk.max_up
     size = grid_high - grid_low + 1
-    walk._check_size(size, horizon)
+    work(walk, horizon).check()
     band_lo = walk.low - grid_low
     stockout = np.zeros(size)
     stockout[:band_lo] = 1.0  # backorder grid: levels under low have already stocked out
@@ -200,7 +200,8 @@ def mean_periods_to_exit(walk: BandedWalk, *, overflow_ends: bool = True) -> flo
 def _mean_time(walk: BandedWalk, top: int, ends_above: bool) -> float:
     """Mean time to leave low..top from the start; above ``top`` the path ends or is held at ``top``."""
     size = top - walk.low + 1
-    walk._check_size(size * len(walk.laws), 1)
+    jumps = max(law.probs.size for law in walk.laws)
+    Work("mean_time", size * len(walk.laws), 1, jumps * jumps, knob="narrow the band (capacity)").check()
     if len(walk.laws) == 1:
         bands = _banded_system(walk.laws[0], size, ends_above)
         try:
