@@ -21,6 +21,7 @@ from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.passage import first_stockout_times
 from walkmath.ruin import expected_duration, ruin_probability
+from walkmath.sizing import CapacityRisk
 from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
@@ -29,6 +30,7 @@ __all__ = [
     "BandedWalk",
     "BirthDeath",
     "COMPUTE_CAP",
+    "CapacityRisk",
     "ComputeTooLarge",
     "LevelDistribution",
     "LongOutlook",

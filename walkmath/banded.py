@@ -20,7 +20,7 @@ from functools import cached_property
 
 import numpy as np
 
-from walkmath import checks, longrun, risk
+from walkmath import checks, longrun, risk, sizing
 from walkmath import cost as _cost
 from walkmath.checks import ABOVE_RULES, BELOW_RULES, DEFAULT_ABOVE, DEFAULT_BELOW
 from walkmath.cost import COST_METHODS, WORK_CAP, Work
@@ -133,7 +133,7 @@ class BandedWalk:
         if method in ("risk_by_start", "smallest_start"):
             return risk.work(self, horizon, method)
         if method == "smallest_capacity":
-            return risk.capacity_work(self, horizon)
+            return sizing.capacity_work(self, horizon)
         if method == "outlook_at":
             return longrun.work(self, horizon)
         return risk.mean_time_work(self)
@@ -236,12 +236,22 @@ class BandedWalk:
         return risk.risk_by_start(self, horizon, top)
 
     def smallest_start(self, horizon: int, stockout_target: float, overflow_target: float | None = None):
-        """Smallest start level meeting the targets at ``horizon`` (None if none does)."""
-        return risk.smallest_start(self, horizon, stockout_target, overflow_target)
+        """Smallest start level meeting the targets at ``horizon`` (None if none does), from the backward sweep."""
+        return sizing.smallest_start(self, horizon, stockout_target, overflow_target)
 
-    def smallest_capacity(self, horizon: int, overflow_target: float, stockout_target: float | None = None):
-        """Smallest capacity (at least the start) meeting the targets at ``horizon`` (None if none does)."""
-        return risk.smallest_capacity(self, horizon, overflow_target, stockout_target)
+    def smallest_capacity(
+        self, horizon: int, overflow_target: float, stockout_target: float | None = None, *, cap: int = WORK_CAP
+    ):
+        """Smallest capacity (at least the start) meeting the targets at ``horizon`` (None if none can).
+
+        A galloping then bisecting search from the start, each probe priced; the
+        whole search stays under ``cap`` units of work.
+        """
+        return sizing.smallest_capacity(self, horizon, overflow_target, stockout_target, cap=cap)
+
+    def risk_by_capacity(self, horizon: int, capacities) -> sizing.CapacityRisk:
+        """Stock-out and overflow risk at ``horizon`` for each of ``capacities`` (for charts)."""
+        return sizing.risk_by_capacity(self, horizon, capacities)
 
     def mean_periods_to_exit(self) -> float:
         """E[first period with a stock-out or an overflow]; inf if not certain (banded linear solve)."""
