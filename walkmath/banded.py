@@ -130,6 +130,9 @@ class BandedWalk:
             low, high = self._grid(horizon, self.start)
             copies = 1 + (self.below != "stop") + (self.above != "stop" and self.high is not None)
             return Work(method, high - low + 1, horizon, jumps, copies)
+        if method == "first_passage":
+            low, high = self._grid(horizon, self.start)
+            return Work(method, high - low + 1, horizon, jumps)
         if method in ("risk_by_start", "smallest_start"):
             return risk.work(self, horizon, method)
         if method == "smallest_capacity":
@@ -224,6 +227,29 @@ class BandedWalk:
             _walk=self,
         )
         return outlook, by_period
+
+    def first_passage(self, horizon: int, rules: Rules) -> tuple[float, float]:
+        """P(the path ends below low, above high) within ``horizon`` for one copy under ``rules``.
+
+        The single-copy forward sweep the sizing probes use (a third of an
+        outlook's work when the outlook carries three copies).
+        """
+        horizon = checks.horizon(horizon)
+        grid_low, grid_high = self._grid(horizon, self.start)
+        size = grid_high - grid_low + 1
+        self.cost(horizon, "first_passage").check()
+        band_hi = None if self.high is None else self.high - grid_low
+        forward = Forward([rules], size, self.low - grid_low, band_hi)
+        mass = np.zeros((1, size))
+        mass[0, self.start - grid_low] = 1.0
+        reach, ended_low, ended_high = (self.start - grid_low,) * 2, 0.0, 0.0
+        for period in range(1, horizon + 1):
+            if reach[0] > reach[1]:
+                break
+            reach, flows = forward.step(mass, reach, self.law_for_period(period))
+            ended_low += flows.fell[0] if forward.end_low[0] else 0.0
+            ended_high += flows.rose[0] if forward.end_high[0] else 0.0
+        return ended_low, ended_high
 
     def outlook_at(self, periods) -> longrun.LongOutlook:
         """Stock-out and overflow risk at chosen periods, up to 10**7, by operator squaring (bounded bands)."""

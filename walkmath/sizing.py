@@ -14,13 +14,16 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
+from scipy import stats
 
 from walkmath import checks
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
+from walkmath.operator import Rules
 
 if TYPE_CHECKING:
     from walkmath.banded import BandedWalk
@@ -43,18 +46,22 @@ def smallest_start(
     return walk.risk_by_start(horizon).smallest_meeting(stockout_target, overflow_target)
 
 
-def risk_at_capacity(walk: BandedWalk, horizon: int, capacity: int) -> tuple[float, float]:
-    """(stock-out, overflow) risk at ``horizon`` with ``capacity``, by the cheaper exact method."""
-    from walkmath.banded import BandedWalk
+def risk_at_capacity(
+    walk: BandedWalk, horizon: int, capacity: int, *, stockout: bool = True, overflow: bool = True
+) -> tuple[float, float]:
+    """(stock-out, overflow) risk at ``horizon`` with ``capacity``, each by the cheaper exact method.
 
-    probe = BandedWalk(walk.laws, walk.start, walk.low, capacity, walk.below, walk.above)
-    sweep, squaring = probe.cost(horizon, "outlook"), probe.cost(horizon, "outlook_at")
-    if walk.below != "backorder" and squaring.units < sweep.units:
+    A risk not asked for comes back as nan-free 0.0 without being computed.
+    """
+    probe = _with_capacity(walk, capacity)
+    sweep, squaring = probe.cost(horizon, "first_passage"), probe.cost(horizon, "outlook_at")
+    if walk.below != "backorder" and squaring.units < sweep.units * (stockout + overflow):
         squaring.check()
         long = probe.outlook_at([horizon])
         return float(long.stockout[0]), float(long.overflow[0])
-    out = probe.outlook(horizon)
-    return float(out.stockout[-1]), float(out.overflow[-1])
+    risk_low = probe.first_passage(horizon, Rules("stop", walk.above))[0] if stockout else 0.0
+    risk_high = probe.first_passage(horizon, Rules(walk.below, "stop"))[1] if overflow else 0.0
+    return risk_low, risk_high
 
 
 def smallest_capacity(
@@ -72,47 +79,80 @@ def smallest_capacity(
     smallest capacity meeting both; under ``above="stop"`` it only rises (fewer
     paths end at an overflow), so it is checked at the overflow answer and None
     returned if it fails there. None also when no capacity can meet the targets.
-    The whole search's work is held under ``cap`` (``ComputeTooLarge`` names the
-    capacity reached when the next probe would pass it).
+
+    The search starts from a guess read off one backward sweep at the walk's
+    own capacity (overflow risk by start level, shifted: exact for a
+    backordering walk, whose risk depends only on the room above the start),
+    confirms it and its neighbour with exact probes, and gallops away from it
+    only when it is off. The whole search stays under ``cap`` units of work
+    (``ComputeTooLarge`` names the capacity reached when the next probe would
+    pass it).
     """
     horizon = checks.horizon(horizon)
     overflow_target = checks.probability("overflow_target", overflow_target)
     if stockout_target is not None:
         stockout_target = checks.probability("stockout_target", stockout_target)
+    both = stockout_target is not None and walk.above == "spill"
+    reach = walk.start + horizon * walk.max_up  # beyond it no overflow can happen within the horizon
     spent = 0
 
-    def overflow_ok(capacity: int) -> bool:
+    def meets(capacity: int) -> bool:
         nonlocal spent
-        spent += _probe_work(walk, horizon, capacity).units
+        spent += _probe_work(walk, horizon, capacity).units * (1 + both)
         if spent > cap:
             raise ComputeTooLarge(
-                f"the capacity search reached {capacity:,} without meeting the overflow target within the "
-                f"limit of {cap:.3g} units of work; shorten the horizon or coarsen the units"
+                f"the capacity search reached {capacity:,} without settling within the limit of {cap:.3g} "
+                "units of work; shorten the horizon or coarsen the units"
             )
-        stockout, overflow = risk_at_capacity(walk, horizon, capacity)
-        if stockout_target is not None and walk.above == "spill":
-            return overflow <= overflow_target and stockout <= stockout_target
-        return overflow <= overflow_target
+        stockout, overflow = risk_at_capacity(walk, horizon, capacity, stockout=both)
+        return overflow <= overflow_target and (not both or stockout <= stockout_target)
 
-    # Beyond ``reach`` no overflow can happen within the horizon.
-    reach = walk.start + horizon * walk.max_up
-    lowest, step = walk.start, max(walk.max_up, 1)
-    highest = min(walk.start + step, reach)
-    while not overflow_ok(highest):
-        if highest == reach:
+    guess = _guess(walk, horizon, overflow_target, reach)
+    if meets(guess):  # gallop down to a capacity that fails, then bisect
+        lowest, highest, step = guess, guess, 1
+        while lowest > walk.start:
+            probe = max(guess - step, walk.start)
+            if not meets(probe):
+                lowest = probe + 1
+                break
+            highest = lowest = probe
+            step *= 2
+    else:  # gallop up to a capacity that meets, then bisect
+        if guess == reach:
             return None
-        lowest, step = highest + 1, 2 * step
-        highest = min(walk.start + step, reach)
+        lowest, step = guess + 1, 1
+        highest = min(guess + step, reach)
+        while not meets(highest):
+            if highest == reach:
+                return None
+            lowest, step = highest + 1, 2 * step
+            highest = min(guess + step, reach)
     while lowest < highest:
         middle = (lowest + highest) // 2
-        if overflow_ok(middle):
+        if meets(middle):
             highest = middle
         else:
             lowest = middle + 1
     stop_fails = stockout_target is not None and walk.above == "stop"
-    if stop_fails and risk_at_capacity(walk, horizon, lowest)[0] > stockout_target:
+    if stop_fails and risk_at_capacity(walk, horizon, lowest, overflow=False)[0] > stockout_target:
         return None
     return lowest
+
+
+def _guess(walk: BandedWalk, horizon: int, overflow_target: float, reach: int) -> int:
+    """A first capacity to probe: from the overflow risk by start at the walk's own capacity, shifted."""
+    if walk.high is not None and walk.high > walk.low:
+        by_start = walk.risk_by_start(horizon)
+        meeting = np.flatnonzero(by_start.overflow <= overflow_target)  # risk rises with the start
+        if meeting.size:
+            room = walk.high - int(by_start.starts[meeting[-1]])  # room above the start that meets the target
+            return int(min(walk.start + room, reach))
+    # Room beyond the band: the normal approximation of the running maximum (reflection: P(max > x) ~ 2 P(S > x)).
+    drift = sum(law.mean for law in walk.laws) / len(walk.laws)
+    spread = math.sqrt(sum(law.variance for law in walk.laws) / len(walk.laws) * horizon)
+    z = float(stats.norm.isf(max(overflow_target, 1e-300) / 2)) if overflow_target < 1 else 0.0
+    room = math.ceil(max(drift, 0.0) * horizon + max(z, 0.0) * spread)
+    return int(min(walk.start + max(room, 1), reach))
 
 
 def risk_by_capacity(walk: BandedWalk, horizon: int, capacities) -> CapacityRisk:
@@ -140,11 +180,15 @@ def capacity_work(walk: BandedWalk, horizon: int, cap: int = WORK_CAP) -> Work:
     return Work("smallest_capacity", widest.levels, horizon, widest.jumps, copies=0, dense=units)
 
 
-def _probe_work(walk: BandedWalk, horizon: int, capacity: int) -> Work:
+def _with_capacity(walk: BandedWalk, capacity: int) -> BandedWalk:
     from walkmath.banded import BandedWalk
 
-    probe = BandedWalk(walk.laws, walk.start, walk.low, capacity, walk.below, walk.above)
-    sweep = probe.cost(horizon, "outlook")
+    return BandedWalk(walk.laws, walk.start, walk.low, capacity, walk.below, walk.above)
+
+
+def _probe_work(walk: BandedWalk, horizon: int, capacity: int) -> Work:
+    probe = _with_capacity(walk, capacity)
+    sweep = probe.cost(horizon, "first_passage")
     if walk.below == "backorder":
         return sweep
     return min(sweep, probe.cost(horizon, "outlook_at"), key=lambda work: work.units)
