@@ -251,9 +251,14 @@ class BandedWalk:
             ended_high += flows.rose[0] if forward.end_high[0] else 0.0
         return ended_low, ended_high
 
-    def outlook_at(self, periods) -> longrun.LongOutlook:
-        """Stock-out and overflow risk at chosen periods, up to 10**7, by operator squaring (bounded bands)."""
-        return longrun.long_outlook(self, periods)
+    def outlook_at(self, periods, *, cap: int = WORK_CAP) -> longrun.LongOutlook:
+        """Stock-out and overflow risk at chosen periods, up to 10**7, by operator squaring (bounded bands).
+
+        Dense (levels + 2)-square products, about 2 log2(period) of them per
+        chain; refused over ``cap`` units of work (a 2,000-level band at 10**6
+        periods needs a larger ``cap``: about a minute on one core).
+        """
+        return longrun.long_outlook(self, periods, cap)
 
     # -- backward: every start level, buffer sizing, mean times ---------------
 
