@@ -102,6 +102,22 @@ def long_outlook(walk: BandedWalk, periods, cap: int = WORK_CAP) -> LongOutlook:
     )
 
 
+def risk_by_start(walk: BandedWalk, horizon: int, cap: int = WORK_CAP) -> tuple[np.ndarray, np.ndarray]:
+    """Stock-out and overflow risk at ``horizon`` from every level low..high, by squaring (bounded bands).
+
+    The absorbing columns of the operator's power: each entry a sum of
+    non-negative products, so small risks keep their relative accuracy.
+    """
+    size = walk.high - walk.low + 1
+    work(walk, horizon).check(cap)
+    risks = []
+    for rules, absorbing in ((Rules("stop", walk.above), size), (Rules(walk.below, "stop"), size + 1)):
+        end = np.zeros(size + 2)
+        end[absorbing] = 1.0
+        risks.append(np.minimum(_CyclePowers(walk.laws, size, rules).column(end, horizon)[:size], 1.0))
+    return risks[0], risks[1]
+
+
 class _CyclePowers:
     """v M_1 M_2 ... M_n for a cycle of period matrices, by squarings of the cycle product.
 
@@ -134,6 +150,26 @@ class _CyclePowers:
                 if len(self.squares) < self.cache_limit:
                     self.squares.append(square)
         return vector
+
+    def column(self, end: np.ndarray, period: int) -> np.ndarray:
+        """M_1 M_2 ... M_period @ end: the chance of ``end`` by ``period`` from every level at once."""
+        cycles, rest = divmod(int(period), len(self.laws))
+        column = end
+        for law in reversed(self.laws[:rest]):
+            column = period_matrix(law, self.size, self.rules) @ column
+        k, square = 0, self.squares[0]
+        while cycles:  # powers of one matrix commute, so the bits can be taken in any order
+            if k < len(self.squares):
+                square = self.squares[k]
+            if cycles & 1:
+                column = square @ column
+            cycles >>= 1
+            k += 1
+            if cycles and k >= len(self.squares):
+                square = _stochastic(square @ square)
+                if len(self.squares) < self.cache_limit:
+                    self.squares.append(square)
+        return column
 
     def vectors(self, start: np.ndarray, sorted_periods: np.ndarray):
         length = len(self.laws)

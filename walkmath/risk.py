@@ -22,7 +22,7 @@ import numpy as np
 from scipy import linalg, sparse
 from scipy.sparse import linalg as sparse_linalg
 
-from walkmath import checks, ruin
+from walkmath import checks, longrun, ruin
 from walkmath.cost import Work
 from walkmath.operator import Rules, backward_step, end_values
 
@@ -50,7 +50,12 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
     if top is None:
         top = walk.high if walk.high is not None else _default_top(walk, horizon)
     top = checks.whole("top", top, minimum=walk.low, maximum=walk.high)
-    work(walk, horizon, top=top).check()
+    sweep = _sweep_work(walk, horizon, "risk_by_start", top)
+    if _squaring_is_cheaper(walk, horizon, sweep):
+        stockout, overflow = longrun.risk_by_start(walk, horizon)
+        rows = np.arange(walk.low, top + 1) - walk.low
+        return StartRisk(horizon, np.arange(walk.low, top + 1), stockout[rows], overflow[rows])
+    sweep.check()
     grid_low, grid_high = _grid(walk, horizon, top)
     size, band_lo = grid_high - grid_low + 1, walk.low - grid_low
     rules, capacity = Rules(walk.below, walk.above), walk.high is not None
@@ -73,12 +78,23 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
 
 
 def work(walk: BandedWalk, horizon: int, method: str = "risk_by_start", top: int | None = None) -> Work:
-    """Priced work of the backward sweep (stock-out and overflow risk for every start level)."""
+    """Priced work of the risk for every start level: the backward sweep, or squaring where cheaper."""
     if top is None:
         top = walk.high if walk.high is not None else _default_top(walk, horizon)
+    sweep = _sweep_work(walk, horizon, method, top)
+    return longrun.work(walk, horizon) if _squaring_is_cheaper(walk, horizon, sweep) else sweep
+
+
+def _sweep_work(walk: BandedWalk, horizon: int, method: str, top: int) -> Work:
     grid_low, grid_high = _grid(walk, horizon, top)
     jumps = max(law.probs.size for law in walk.laws)
     return Work(method, grid_high - grid_low + 1, horizon, jumps, copies=1 + (walk.high is not None))
+
+
+def _squaring_is_cheaper(walk: BandedWalk, horizon: int, sweep: Work) -> bool:
+    """Long horizons on a bounded band: operator squaring when it costs less than the sweep."""
+    bounded = walk.high is not None and walk.below != "backorder" and walk.high - walk.low < longrun.DENSE_LEVELS
+    return bounded and longrun.work(walk, horizon).units < sweep.units
 
 
 def _grid(walk: BandedWalk, horizon: int, top: int) -> tuple[int, int]:

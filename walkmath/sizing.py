@@ -19,7 +19,7 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
-from scipy import stats
+from scipy import optimize, stats
 
 from walkmath import checks
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
@@ -141,18 +141,40 @@ def smallest_capacity(
 
 def _guess(walk: BandedWalk, horizon: int, overflow_target: float, reach: int) -> int:
     """A first capacity to probe: from the overflow risk by start at the walk's own capacity, shifted."""
-    if walk.high is not None and walk.high > walk.low:
+    if walk.high is not None and walk.high > walk.low and walk.cost(horizon, "risk_by_start").units <= WORK_CAP:
         by_start = walk.risk_by_start(horizon)
         meeting = np.flatnonzero(by_start.overflow <= overflow_target)  # risk rises with the start
         if meeting.size:
             room = walk.high - int(by_start.starts[meeting[-1]])  # room above the start that meets the target
             return int(min(walk.start + room, reach))
-    # Room beyond the band: the normal approximation of the running maximum (reflection: P(max > x) ~ 2 P(S > x)).
+    # Room beyond the band: the normal approximation of the running maximum (reflection: P(max > x) ~ 2 P(S > x));
+    # for a downward drift, the exponential tail of the maximum, P(max > x) ~ exp(-theta x) per excursion
+    # (Cramer-Lundberg, common practice), with one excursion a period as the worst case.
     drift = sum(law.mean for law in walk.laws) / len(walk.laws)
     spread = math.sqrt(sum(law.variance for law in walk.laws) / len(walk.laws) * horizon)
-    z = float(stats.norm.isf(max(overflow_target, 1e-300) / 2)) if overflow_target < 1 else 0.0
-    room = math.ceil(max(drift, 0.0) * horizon + max(z, 0.0) * spread)
-    return int(min(walk.start + max(room, 1), reach))
+    target = max(overflow_target, 1e-300)
+    z = float(stats.norm.isf(target / 2)) if overflow_target < 1 else 0.0
+    room = max(drift, 0.0) * horizon + max(z, 0.0) * spread
+    if drift < 0 and walk.max_up > 0:
+        room = min(room, math.log(horizon / target) / _adjustment_coefficient(walk.laws))
+    return int(min(walk.start + max(math.ceil(room), 1), reach))
+
+
+def _adjustment_coefficient(laws) -> float:
+    """theta > 0 with prod_k G_k(e^theta) = 1 for a cycle of laws drifting down (per period, averaged)."""
+
+    def log_g(theta: float) -> float:
+        total = 0.0
+        for law in laws:
+            exponents = np.log(law.probs, where=law.probs > 0, out=np.full(law.probs.size, -np.inf)) + theta * law.steps
+            peak = exponents.max()
+            total += peak + math.log(np.exp(exponents - peak).sum())
+        return total
+
+    high = 1.0
+    while log_g(high) <= 0 and high < 1e6:
+        high *= 2
+    return optimize.brentq(log_g, 1e-12, high) / len(laws)
 
 
 def risk_by_capacity(walk: BandedWalk, horizon: int, capacities) -> CapacityRisk:
