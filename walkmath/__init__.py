@@ -5,7 +5,7 @@ the stable public surface described in the project's design notes.
 """
 
 from walkmath import checks
-from walkmath.banded import COMPUTE_CAP, BandedWalk, ComputeTooLarge, Outlook, StartRisk
+from walkmath.banded import COMPUTE_CAP, BandedWalk, Outlook, StartRisk
 from walkmath.compare import (
     MonteCarloOutlook,
     brownian_first_passage,
@@ -15,11 +15,13 @@ from walkmath.compare import (
     wilson_interval,
 )
 from walkmath.continuous import BirthDeath, TransientLaw
+from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
 from walkmath.distribution import LevelDistribution, law_power, level_distribution
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.passage import first_stockout_times
 from walkmath.ruin import expected_duration, ruin_probability
+from walkmath.sizing import CapacityRisk
 from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
@@ -28,6 +30,7 @@ __all__ = [
     "BandedWalk",
     "BirthDeath",
     "COMPUTE_CAP",
+    "CapacityRisk",
     "ComputeTooLarge",
     "LevelDistribution",
     "LongOutlook",
@@ -37,6 +40,8 @@ __all__ = [
     "StartRisk",
     "StepLaw",
     "TransientLaw",
+    "WORK_CAP",
+    "Work",
     "brownian_first_passage",
     "checks",
     "continuous_level_distribution",

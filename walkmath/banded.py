@@ -20,11 +20,12 @@ from functools import cached_property
 
 import numpy as np
 
-from walkmath import checks, longrun, risk
+from walkmath import checks, longrun, risk, sizing
 from walkmath import cost as _cost
 from walkmath.checks import ABOVE_RULES, BELOW_RULES, DEFAULT_ABOVE, DEFAULT_BELOW
-from walkmath.cost import COST_METHODS, WORK_CAP, ComputeTooLarge, Work
+from walkmath.cost import COST_METHODS, WORK_CAP, Work
 from walkmath.distribution import LevelDistribution
+from walkmath.operator import Forward, Rules
 from walkmath.steplaw import StepLaw, as_cycle
 
 # Kept for callers of the first release: the engine's cap, now in work units (see walkmath.cost).
@@ -129,10 +130,13 @@ class BandedWalk:
             low, high = self._grid(horizon, self.start)
             copies = 1 + (self.below != "stop") + (self.above != "stop" and self.high is not None)
             return Work(method, high - low + 1, horizon, jumps, copies)
+        if method == "first_passage":
+            low, high = self._grid(horizon, self.start)
+            return Work(method, high - low + 1, horizon, jumps)
         if method in ("risk_by_start", "smallest_start"):
             return risk.work(self, horizon, method)
         if method == "smallest_capacity":
-            return risk.capacity_work(self, horizon)
+            return sizing.capacity_work(self, horizon)
         if method == "outlook_at":
             return longrun.work(self, horizon)
         return risk.mean_time_work(self)
@@ -158,92 +162,57 @@ class BandedWalk:
         highest = self.high if self.high is not None else max(start, start + horizon * self.max_up)
         return lowest, highest
 
-    def _check_size(self, levels: int, horizon: int) -> None:
-        if levels * max(horizon, 1) > COMPUTE_CAP:
-            raise ComputeTooLarge(
-                f"levels x periods must be at most {COMPUTE_CAP:,}; this walk needs {levels:,} levels x "
-                f"{horizon:,} periods. Shorten the horizon, narrow the band or coarsen the units."
-            )
+    def _copies(self) -> tuple[list[Rules], int, int]:
+        """State copies a forward sweep carries: the walk under its own rules, then, where a rule
+        does not end paths, a copy that ends at that event so its first passage can be counted.
+        Returns the copies and the copy whose ended-below mass is the stock-out curve (and overflow)."""
+        copies = [Rules(self.below, self.above)]
+        stockout_copy = overflow_copy = 0
+        if self.below != "stop":
+            copies.append(Rules("stop", self.above))
+            stockout_copy = len(copies) - 1
+        if self.above != "stop" and self.high is not None:
+            copies.append(Rules(self.below, "stop"))
+            overflow_copy = len(copies) - 1
+        return copies, stockout_copy, overflow_copy
 
     def _sweep(self, horizon: int, keep_levels: bool) -> tuple[Outlook, np.ndarray | None]:
+        self.cost(horizon, "level_probs" if keep_levels else "outlook").check()
         grid_low, grid_high = self._grid(horizon, self.start)
         size = grid_high - grid_low + 1
-        self._check_size(size, horizon)
-        # Pad so one period's steps never leave the array; out-of-band mass is settled after each step.
-        pad_low, pad_high = self.max_down, self.max_up
-        width = size + pad_low + pad_high
-        band_lo = self.low - grid_low + pad_low  # index of level ``low``
-        band_hi = None if self.high is None else self.high - grid_low + pad_low
-
-        # Rows: 0 = the walk under its own rules; then, where a rule does not stop paths,
-        # a copy that stops at that event so its first passage can be counted.
-        rows = [(self.below, self.above)]
-        stockout_row = 0 if self.below == "stop" else _add(rows, ("stop", self.above))
-        overflow_row = 0 if self.above == "stop" else _add(rows, (self.below, "stop"))
-        mass = np.zeros((len(rows), width))
-        mass[:, self.start - grid_low + pad_low] = 1.0
-        stop_below = np.array([r[0] == "stop" for r in rows])
-        lost_below = np.array([r[0] == "lost" for r in rows])
-        stop_above = np.array([r[1] == "stop" for r in rows])
-
-        curves = np.zeros((6, horizon + 1))  # stockout, overflow, stockout events, lost, spilled, alive
+        copies, stockout_copy, overflow_copy = self._copies()
+        band_hi = None if self.high is None else self.high - grid_low
+        forward = Forward(copies, size, self.low - grid_low, band_hi)
+        mass = np.zeros((len(copies), size))
+        mass[:, self.start - grid_low] = 1.0
+        curves = np.zeros((6, horizon + 1))  # stockout, overflow, stock-out periods, lost, spilled, alive
         curves[5, 0] = 1.0
-        stopped_low = np.zeros(len(rows))
-        stopped_high = np.zeros(len(rows))
+        ended_low, ended_high = np.zeros(len(copies)), np.zeros(len(copies))
         by_period = np.zeros((horizon + 1, size)) if keep_levels else None
         if keep_levels:
-            by_period[0] = mass[0, pad_low : pad_low + size]
-        reach_lo = reach_hi = self.start - grid_low + pad_low  # indices that may hold mass
-        shortfall = np.arange(band_lo, 0, -1, dtype=float)  # low - level at indices 0..band_lo - 1
-        scratch = np.empty_like(mass)
-
+            by_period[0] = mass[0]
+        reach = (self.start - grid_low,) * 2
         for period in range(1, horizon + 1):
-            if reach_lo > reach_hi:  # every path has stopped: the curves stay where they are
+            if reach[0] > reach[1]:  # every path has ended: the curves stay where they are
                 curves[:2, period] = curves[:2, period - 1]
                 continue
-            law = self.law_for_period(period)
-            lo, hi = reach_lo + law.lowest, reach_hi + law.highest
-            scratch[:, lo : hi + 1] = 0.0
-            for offset, weight in enumerate(law.probs):
-                if weight == 0.0:
-                    continue
-                step = law.lowest + offset
-                scratch[:, reach_lo + step : reach_hi + step + 1] += weight * mass[:, reach_lo : reach_hi + 1]
-            mass[:, reach_lo : reach_hi + 1] = 0.0
-            mass[:, lo : hi + 1] = scratch[:, lo : hi + 1]
-            if lo < band_lo:  # settle mass below ``low``
-                under = mass[:, lo:band_lo]
-                fell = under.sum(axis=1)  # for a backorder row this is the backlog: a stock-out period
-                curves[2, period] = fell[0]
-                if self.below == "lost":
-                    curves[3, period] = float(under[0] @ shortfall[lo:band_lo])
-                    hi = max(hi, band_lo)
-                stopped_low += np.where(stop_below, fell, 0.0)
-                mass[lost_below, band_lo] += fell[lost_below]
-                mass[stop_below | lost_below, lo:band_lo] = 0.0
-                if self.below != "backorder":
-                    lo = band_lo
-            if band_hi is not None and hi > band_hi:  # settle mass above ``high``
-                over = mass[:, band_hi + 1 : hi + 1]
-                rose = over.sum(axis=1)
-                if self.above == "spill":
-                    curves[4, period] = float(over[0] @ np.arange(1, hi - band_hi + 1, dtype=float))
-                    lo = min(lo, band_hi)
-                stopped_high += np.where(stop_above, rose, 0.0)
-                mass[~stop_above, band_hi] += rose[~stop_above]
-                mass[:, band_hi + 1 : hi + 1] = 0.0
-                hi = band_hi
-            reach_lo, reach_hi = lo, hi
-            curves[0, period] = stopped_low[stockout_row]
-            curves[1, period] = stopped_high[overflow_row]
-            curves[5, period] = mass[0, reach_lo : reach_hi + 1].sum() if lo <= hi else 0.0  # pairwise sum
+            reach, flows = forward.step(mass, reach, self.law_for_period(period))
+            ended_low += np.where(forward.end_low, flows.fell, 0.0)  # sums of non-negative terms
+            ended_high += np.where(forward.end_high, flows.rose, 0.0)
+            curves[:5, period] = (
+                ended_low[stockout_copy],
+                ended_high[overflow_copy],
+                flows.fell[0],
+                flows.lost_units,
+                flows.spilled_units,
+            )
+            curves[5, period] = mass[0, reach[0] : reach[1] + 1].sum() if reach[0] <= reach[1] else 0.0
             if keep_levels:
-                by_period[period] = mass[0, pad_low : pad_low + size]
-
-        if self.below != "stop":
-            curves[2, 1:] = np.cumsum(curves[2, 1:])
-        else:
+                by_period[period] = mass[0]
+        if self.below == "stop":
             curves[2] = curves[0]
+        else:  # expected number of periods ending in a stock-out: a running sum of non-negative terms
+            curves[2, 1:] = np.cumsum(curves[2, 1:])
         levels = np.arange(grid_low, grid_high + 1)
         outlook = Outlook(
             horizon=horizon,
@@ -254,14 +223,42 @@ class BandedWalk:
             lost_units=curves[3],
             spilled_units=curves[4],
             stockout_periods=curves[2],
-            final=LevelDistribution(levels, mass[0, pad_low : pad_low + size].copy()),
+            final=LevelDistribution(levels, mass[0].copy()),
             _walk=self,
         )
         return outlook, by_period
 
-    def outlook_at(self, periods) -> longrun.LongOutlook:
-        """Stock-out and overflow risk at chosen periods, up to 10**7, by operator squaring (bounded bands)."""
-        return longrun.long_outlook(self, periods)
+    def first_passage(self, horizon: int, rules: Rules) -> tuple[float, float]:
+        """P(the path ends below low, above high) within ``horizon`` for one copy under ``rules``.
+
+        The single-copy forward sweep the sizing probes use (a third of an
+        outlook's work when the outlook carries three copies).
+        """
+        horizon = checks.horizon(horizon)
+        grid_low, grid_high = self._grid(horizon, self.start)
+        size = grid_high - grid_low + 1
+        self.cost(horizon, "first_passage").check()
+        band_hi = None if self.high is None else self.high - grid_low
+        forward = Forward([rules], size, self.low - grid_low, band_hi)
+        mass = np.zeros((1, size))
+        mass[0, self.start - grid_low] = 1.0
+        reach, ended_low, ended_high = (self.start - grid_low,) * 2, 0.0, 0.0
+        for period in range(1, horizon + 1):
+            if reach[0] > reach[1]:
+                break
+            reach, flows = forward.step(mass, reach, self.law_for_period(period))
+            ended_low += flows.fell[0] if forward.end_low[0] else 0.0
+            ended_high += flows.rose[0] if forward.end_high[0] else 0.0
+        return ended_low, ended_high
+
+    def outlook_at(self, periods, *, cap: int = WORK_CAP) -> longrun.LongOutlook:
+        """Stock-out and overflow risk at chosen periods, up to 10**7, by operator squaring (bounded bands).
+
+        Dense (levels + 2)-square products, about 2 log2(period) of them per
+        chain; refused over ``cap`` units of work (a 2,000-level band at 10**6
+        periods needs a larger ``cap``: about a minute on one core).
+        """
+        return longrun.long_outlook(self, periods, cap)
 
     # -- backward: every start level, buffer sizing, mean times ---------------
 
@@ -270,12 +267,22 @@ class BandedWalk:
         return risk.risk_by_start(self, horizon, top)
 
     def smallest_start(self, horizon: int, stockout_target: float, overflow_target: float | None = None):
-        """Smallest start level meeting the targets at ``horizon`` (None if none does)."""
-        return risk.smallest_start(self, horizon, stockout_target, overflow_target)
+        """Smallest start level meeting the targets at ``horizon`` (None if none does), from the backward sweep."""
+        return sizing.smallest_start(self, horizon, stockout_target, overflow_target)
 
-    def smallest_capacity(self, horizon: int, overflow_target: float, stockout_target: float | None = None):
-        """Smallest capacity (at least the start) meeting the targets at ``horizon`` (None if none does)."""
-        return risk.smallest_capacity(self, horizon, overflow_target, stockout_target)
+    def smallest_capacity(
+        self, horizon: int, overflow_target: float, stockout_target: float | None = None, *, cap: int = WORK_CAP
+    ):
+        """Smallest capacity (at least the start) meeting the targets at ``horizon`` (None if none can).
+
+        A galloping then bisecting search from the start, each probe priced; the
+        whole search stays under ``cap`` units of work.
+        """
+        return sizing.smallest_capacity(self, horizon, overflow_target, stockout_target, cap=cap)
+
+    def risk_by_capacity(self, horizon: int, capacities) -> sizing.CapacityRisk:
+        """Stock-out and overflow risk at ``horizon`` for each of ``capacities`` (for charts)."""
+        return sizing.risk_by_capacity(self, horizon, capacities)
 
     def mean_periods_to_exit(self) -> float:
         """E[first period with a stock-out or an overflow]; inf if not certain (banded linear solve)."""
@@ -284,8 +291,3 @@ class BandedWalk:
     def mean_periods_to_stockout(self) -> float:
         """E[first period with a stock-out]; inf if not certain (banded linear solve)."""
         return risk.mean_periods_to_exit(self, overflow_ends=False)
-
-
-def _add(rows: list, row: tuple[str, str]) -> int:
-    rows.append(row)
-    return len(rows) - 1

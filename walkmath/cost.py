@@ -23,6 +23,7 @@ COST_METHODS = (
     "smallest_capacity",
     "outlook_at",
     "mean_time",
+    "first_passage",
 )
 
 # Largest work one engine call accepts: about 5 s on one core.

@@ -22,8 +22,9 @@ import numpy as np
 from scipy import linalg, sparse
 from scipy.sparse import linalg as sparse_linalg
 
-from walkmath import checks, ruin
+from walkmath import checks, longrun, ruin
 from walkmath.cost import Work
+from walkmath.operator import Rules, backward_step, end_values
 
 if TYPE_CHECKING:
     from walkmath.banded import BandedWalk, StartRisk
@@ -36,9 +37,12 @@ _MEAN_TIME_TOLERANCE = 1e-12
 def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> StartRisk:
     """Stock-out and overflow risk at ``horizon`` for every start level low..top (one backward sweep).
 
-    Without a capacity, ``top`` defaults to the lowest level from which a
-    stock-out within the horizon is impossible (low + horizon x largest
-    down-step), or less when the risk there is already negligible.
+    Each period is one ``np.correlate`` of the risk by level with the period's
+    law (``walkmath.operator.backward_step``), the band's ends valued by the
+    rules; every value is a sum of non-negative terms. Without a capacity,
+    ``top`` defaults to the lowest level from which a stock-out within the
+    horizon is impossible (low + horizon x largest down-step), or less when the
+    risk there is already negligible.
     """
     from walkmath.banded import StartRisk
 
@@ -46,57 +50,58 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
     if top is None:
         top = walk.high if walk.high is not None else _default_top(walk, horizon)
     top = checks.whole("top", top, minimum=walk.low, maximum=walk.high)
-    grid_low = walk.low - (horizon * walk.max_down if walk.below == "backorder" else 0)
-    grid_high = walk.high if walk.high is not None else top + horizon * walk.max_up
-    size = grid_high - grid_low + 1
-    walk._check_size(size, horizon)
-    band_lo = walk.low - grid_low
+    sweep = _sweep_work(walk, horizon, "risk_by_start", top)
+    if _squaring_is_cheaper(walk, horizon, sweep):
+        stockout, overflow = longrun.risk_by_start(walk, horizon)
+        rows = np.arange(walk.low, top + 1) - walk.low
+        return StartRisk(horizon, np.arange(walk.low, top + 1), stockout[rows], overflow[rows])
+    sweep.check()
+    grid_low, grid_high = _grid(walk, horizon, top)
+    size, band_lo = grid_high - grid_low + 1, walk.low - grid_low
+    rules, capacity = Rules(walk.below, walk.above), walk.high is not None
     stockout = np.zeros(size)
-    stockout[:band_lo] = 1.0  # backorder grid: levels under low have already stocked out
+    stockout[:band_lo] = 1.0  # a backorder grid: levels under low have already stocked out
     overflow = np.zeros(size)
-    pad_low, pad_high = walk.max_down, walk.max_up
-    padded = np.zeros((2, size + pad_low + pad_high))
     for period in range(horizon, 0, -1):
         law = walk.law_for_period(period)
-        _pad(padded[0], stockout, pad_low, pad_high, below_value=1.0, above=_above_value(walk, stockout, 0.0))
-        below_value = 0.0 if walk.below == "stop" else overflow[band_lo]  # lost: continue from low
-        _pad(padded[1], overflow, pad_low, pad_high, below_value=below_value, above=1.0)
-        fresh = np.zeros((2, size))
-        for offset, weight in enumerate(law.probs):
-            if weight:
-                step = law.lowest + offset
-                fresh += weight * padded[:, pad_low + step : pad_low + step + size]
-        stockout, overflow = fresh
-        stockout[:band_lo] = 1.0  # for overflow, levels under low walk on
-    starts = np.arange(walk.low, top + 1)
-    rows = starts - grid_low
-    return StartRisk(horizon=horizon, starts=starts, stockout=stockout[rows], overflow=overflow[rows])
+        ends = end_values(rules, stockout, "stockout", band_lo=band_lo, capacity=capacity)
+        stockout = backward_step(stockout, law, *ends)
+        stockout[:band_lo] = 1.0
+        if capacity:  # for overflow, levels under low walk on
+            overflow = backward_step(
+                overflow, law, *end_values(rules, overflow, "overflow", band_lo=band_lo, capacity=capacity)
+            )
+    rows = np.arange(walk.low, top + 1) - grid_low
+    return StartRisk(
+        horizon=horizon, starts=np.arange(walk.low, top + 1), stockout=stockout[rows], overflow=overflow[rows]
+    )
 
 
-def work(walk: BandedWalk, horizon: int, method: str = "risk_by_start") -> Work:
-    """Priced work of the backward sweep (stock-out and overflow risk for every start level)."""
-    top = walk.high if walk.high is not None else _default_top(walk, horizon)
+def work(walk: BandedWalk, horizon: int, method: str = "risk_by_start", top: int | None = None) -> Work:
+    """Priced work of the risk for every start level: the backward sweep, or squaring where cheaper."""
+    if top is None:
+        top = walk.high if walk.high is not None else _default_top(walk, horizon)
+    sweep = _sweep_work(walk, horizon, method, top)
+    return longrun.work(walk, horizon) if _squaring_is_cheaper(walk, horizon, sweep) else sweep
+
+
+def _sweep_work(walk: BandedWalk, horizon: int, method: str, top: int) -> Work:
+    grid_low, grid_high = _grid(walk, horizon, top)
+    jumps = max(law.probs.size for law in walk.laws)
+    return Work(method, grid_high - grid_low + 1, horizon, jumps, copies=1 + (walk.high is not None))
+
+
+def _squaring_is_cheaper(walk: BandedWalk, horizon: int, sweep: Work) -> bool:
+    """Long horizons on a bounded band: operator squaring when it costs less than the sweep."""
+    bounded = walk.high is not None and walk.below != "backorder" and walk.high - walk.low < longrun.DENSE_LEVELS
+    return bounded and longrun.work(walk, horizon).units < sweep.units
+
+
+def _grid(walk: BandedWalk, horizon: int, top: int) -> tuple[int, int]:
+    """Levels a backward sweep carries so that every start low..top is exact at the horizon."""
     grid_low = walk.low - (horizon * walk.max_down if walk.below == "backorder" else 0)
     grid_high = walk.high if walk.high is not None else top + horizon * walk.max_up
-    jumps = max(law.probs.size for law in walk.laws)
-    return Work(method, grid_high - grid_low + 1, horizon, jumps, copies=2)
-
-
-def capacity_work(walk: BandedWalk, horizon: int) -> Work:
-    """Priced work of the capacity search: bounded by its probes, each a forward outlook."""
-    jumps = max(law.probs.size for law in walk.laws)
-    reach = walk.start + horizon * walk.max_up
-    levels = reach - walk.low + 1
-    probes = 2 * max(1, math.ceil(math.log2(max(reach - walk.start, 2))))
-    return Work("smallest_capacity", levels, horizon, jumps, copies=3 * probes)
-
-
-def mean_time_work(walk: BandedWalk) -> Work:
-    """Priced work of a mean-time solve (banded elimination over the band, or a grown band without capacity)."""
-    jumps = max(law.probs.size for law in walk.laws)
-    top = walk.high if walk.high is not None else walk.start + 2**22
-    levels = (top - walk.low + 1) * len(walk.laws)
-    return Work("mean_time", levels, 1, jumps * jumps, knob="narrow the band (capacity)")
+    return grid_low, grid_high
 
 
 def _default_top(walk: BandedWalk, horizon: int) -> int:
@@ -107,61 +112,12 @@ def _default_top(walk: BandedWalk, horizon: int) -> int:
     return max(walk.start, min(certain_safe, plausible))
 
 
-def _above_value(walk: BandedWalk, values: np.ndarray, stop_value: float):
-    return stop_value if walk.above == "stop" or walk.high is None else values[-1]
-
-
-def _pad(out: np.ndarray, values: np.ndarray, pad_low: int, pad_high: int, *, below_value, above) -> None:
-    out[:pad_low] = below_value
-    out[pad_low : pad_low + values.size] = values
-    out[pad_low + values.size :] = above
-
-
-def smallest_start(
-    walk: BandedWalk, horizon: int, stockout_target: float, overflow_target: float | None = None
-) -> int | None:
-    """Smallest start level whose stock-out risk (and overflow risk, if given) at the horizon meets the targets."""
-    return risk_by_start(walk, horizon).smallest_meeting(stockout_target, overflow_target)
-
-
-def smallest_capacity(
-    walk: BandedWalk, horizon: int, overflow_target: float, stockout_target: float | None = None
-) -> int | None:
-    """Smallest capacity (``high``, at least the start) meeting the overflow target at the horizon.
-
-    Galloping then bisection on capacity, one forward outlook per probe (about
-    2 log2(answer - start) outlooks, the cheap small bands first). With ``stockout_target`` the stock-out risk must
-    be met too; under ``above="spill"`` it can only fall as capacity grows.
-    """
-    from walkmath.banded import BandedWalk
-
-    horizon = checks.horizon(horizon)
-    overflow_target = checks.probability("overflow_target", overflow_target)
-    if stockout_target is not None:
-        stockout_target = checks.probability("stockout_target", stockout_target)
-
-    def meets(capacity: int) -> bool:
-        probe = BandedWalk(walk.laws, walk.start, walk.low, capacity, walk.below, walk.above).outlook(horizon)
-        ok = probe.overflow[-1] <= overflow_target
-        return ok and (stockout_target is None or probe.stockout[-1] <= stockout_target)
-
-    # No overflow is possible at ``reach``; if even that fails, nothing does. Otherwise gallop up from the
-    # start (small bands are cheap), then bisect.
-    reach = walk.start + horizon * walk.max_up
-    if not meets(reach):
-        return None
-    lowest, step = walk.start, max(walk.max_up, 1)
-    highest = min(walk.start + step, reach)
-    while not meets(highest):
-        lowest, step = highest + 1, 2 * step
-        highest = min(walk.start + step, reach)
-    while lowest < highest:
-        middle = (lowest + highest) // 2
-        if meets(middle):
-            highest = middle
-        else:
-            lowest = middle + 1
-    return lowest
+def mean_time_work(walk: BandedWalk) -> Work:
+    """Priced work of a mean-time solve (banded elimination over the band, or a grown band without capacity)."""
+    jumps = max(law.probs.size for law in walk.laws)
+    top = walk.high if walk.high is not None else walk.start + 2**22
+    levels = (top - walk.low + 1) * len(walk.laws)
+    return Work("mean_time", levels, 1, jumps * jumps, knob="narrow the band (capacity)")
 
 
 def mean_periods_to_exit(walk: BandedWalk, *, overflow_ends: bool = True) -> float:
@@ -200,7 +156,8 @@ def mean_periods_to_exit(walk: BandedWalk, *, overflow_ends: bool = True) -> flo
 def _mean_time(walk: BandedWalk, top: int, ends_above: bool) -> float:
     """Mean time to leave low..top from the start; above ``top`` the path ends or is held at ``top``."""
     size = top - walk.low + 1
-    walk._check_size(size * len(walk.laws), 1)
+    jumps = max(law.probs.size for law in walk.laws)
+    Work("mean_time", size * len(walk.laws), 1, jumps * jumps, knob="narrow the band (capacity)").check()
     if len(walk.laws) == 1:
         bands = _banded_system(walk.laws[0], size, ends_above)
         try:

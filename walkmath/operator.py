@@ -1,0 +1,195 @@
+"""The one-period operator of a walk on a band, with the rules at both ends coded once.
+
+A grid holds consecutive levels ``lowest .. lowest + size - 1``; the band is
+``low`` (grid index ``band_lo``) to ``high`` (grid index ``band_hi``, or no
+capacity). What a rule does to a step that leaves the band is written once, in
+``END_BEHAVIOUR``, and read by every application of the operator:
+
+* forward (``Forward.step``): mass after one period, one ``np.convolve`` per
+  state copy over the levels that can hold mass, then the out-of-band mass is
+  walked on, held at the end, or ended (counted as a first passage);
+* backward (``backward_step``): risk by level after one more period, one
+  ``np.correlate`` over the band padded with the end's value;
+* squaring (``period_matrix``): the dense row-stochastic matrix with two
+  absorbing states (stocked out, overflowed) for operator powers;
+* mean-time solves (``substochastic_band``): the sub-stochastic band of the
+  states that have not ended, with the one-period chance of ending per level.
+
+Every entry is a sum of non-negative products, so small probabilities keep
+their relative accuracy (no subtraction anywhere here).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from walkmath.steplaw import StepLaw
+
+WALK, HOLD, END = "walk", "hold", "end"
+# What each rule does to a step that would leave the band through its end.
+END_BEHAVIOUR = {"backorder": WALK, "lost": HOLD, "stop": END, "spill": HOLD}
+
+
+@dataclass(frozen=True)
+class Rules:
+    """The rule below ``low`` and the rule above ``high`` for one state copy."""
+
+    below: str
+    above: str
+
+    @property
+    def at_low(self) -> str:
+        return END_BEHAVIOUR[self.below]
+
+    @property
+    def at_high(self) -> str:
+        return END_BEHAVIOUR[self.above]
+
+
+@dataclass(frozen=True)
+class Flows:
+    """What left the band in one period, per state copy (arrays over copies)."""
+
+    fell: np.ndarray  # mass below low after the step (stock-out this period)
+    rose: np.ndarray  # mass above high after the step (overflow this period)
+    lost_units: float  # expected units short this period, copy 0 ("lost" only)
+    spilled_units: float  # expected units spilled this period, copy 0 ("spill" only)
+
+
+class Forward:
+    """Forward periods for several state copies on one grid, each copy with its own rules.
+
+    ``mass[c, i]`` is P(level = lowest + i, path of copy c not ended). Only
+    indices ``reach_lo .. reach_hi`` may hold mass; each period's work is one
+    convolution per copy over that window, so early periods are cheap.
+    """
+
+    def __init__(self, rules: list[Rules], size: int, band_lo: int, band_hi: int | None):
+        self.rules = rules
+        self.size, self.band_lo, self.band_hi = size, band_lo, band_hi
+        self.end_low = np.array([r.at_low == END for r in rules])
+        self.hold_low = np.array([r.at_low == HOLD for r in rules])
+        self.end_high = np.array([r.at_high == END for r in rules])
+        self.hold_high = ~self.end_high
+        self.walks_below = any(r.at_low == WALK for r in rules)
+
+    def step(self, mass: np.ndarray, reach: tuple[int, int], law: StepLaw) -> tuple[tuple[int, int], Flows]:
+        """Advance ``mass`` one period in place; return the new reach and what left the band."""
+        lo, hi = reach
+        first = lo + law.lowest  # grid index of moved[:, 0]
+        moved = np.stack([np.convolve(row[lo : hi + 1], law.probs) for row in mass])
+        copies = len(self.rules)
+        fell, rose = np.zeros(copies), np.zeros(copies)
+        lost_units = spilled_units = 0.0
+        under = self.band_lo - first  # entries of ``moved`` below low
+        if under > 0:
+            below = moved[:, :under]
+            fell = below.sum(axis=1)
+            if self.rules[0].at_low == HOLD:
+                shortfall = np.arange(under, under - below.shape[1], -1, dtype=float)
+                lost_units = float(below[0] @ shortfall)
+            ended = ~np.array([r.at_low == WALK for r in self.rules])
+            below[ended] = 0.0
+        if self.band_hi is not None and first + moved.shape[1] - 1 > self.band_hi:
+            over_at = max(self.band_hi - first + 1, 0)
+            above = moved[:, over_at:]
+            rose = above.sum(axis=1)
+            if self.rules[0].at_high == HOLD:
+                excess = np.arange(above.shape[1], dtype=float) + (first + over_at - self.band_hi)
+                spilled_units = float(above[0] @ excess)
+            above[:] = 0.0
+        mass[:, lo : hi + 1] = 0.0
+        start = max(first, 0)
+        stop = max(min(first + moved.shape[1], self.size), start)
+        mass[:, start:stop] = moved[:, start - first : stop - first]
+        if under > 0:
+            mass[self.hold_low, self.band_lo] += fell[self.hold_low]
+            if self.hold_low.any():
+                start, stop = min(start, self.band_lo), max(stop, self.band_lo + 1)
+        if rose.any():
+            mass[self.hold_high, self.band_hi] += rose[self.hold_high]
+            if self.hold_high.any():
+                start, stop = min(start, self.band_hi), max(stop, self.band_hi + 1)
+        if not self.walks_below:
+            start = max(start, self.band_lo)
+        return (start, stop - 1), Flows(fell, rose, lost_units, spilled_units)
+
+
+def backward_step(values: np.ndarray, law: StepLaw, below_value: float, above_value: float) -> np.ndarray:
+    """u(i) = sum_k P(step = k) u(i + k) over the grid, u taken as the given values off the grid."""
+    size = values.size
+    lowest, highest = law.lowest, law.highest
+    padded = np.empty(size + law.probs.size - 1)
+    left = max(0, -lowest)
+    padded[:left] = below_value
+    inner = values[max(0, lowest) : size + min(0, highest)]
+    padded[left : left + inner.size] = inner
+    padded[left + inner.size :] = above_value
+    return np.correlate(padded, law.probs, "valid")
+
+
+def end_values(rules: Rules, values: np.ndarray, event: str, *, band_lo: int, capacity: bool) -> tuple[float, float]:
+    """Values just below and just above the grid for a backward sweep of P(``event`` within the periods left).
+
+    ``event`` is "stockout" or "overflow". Leaving through the end that is the
+    event is worth 1. Leaving through the other end is worth the value at that
+    end's level if the rule holds the level there, 0 if it ends the path; a
+    walking end (backorder, or no capacity) lies beyond the grid's reach within
+    the horizon, so its value never reaches a reported level.
+    """
+    if event == "stockout":
+        above = values[-1] if capacity and rules.at_high == HOLD else 0.0
+        return 1.0, above
+    below = values[band_lo] if rules.at_low == HOLD else 0.0
+    return below, 1.0
+
+
+def period_matrix(law: StepLaw, size: int, rules: Rules) -> np.ndarray:
+    """Row-stochastic one-period matrix on levels low..high plus [stocked out, overflowed] absorbing states.
+
+    Built on a bounded band (both ends hold or end); a walking end has no place here.
+    """
+    matrix = np.zeros((size + 2, size + 2))
+    matrix[size, size] = matrix[size + 1, size + 1] = 1.0
+    levels = np.arange(size)
+    low_target = 0 if rules.at_low == HOLD else size
+    high_target = size - 1 if rules.at_high == HOLD else size + 1
+    for offset, weight in enumerate(law.probs):
+        if weight == 0.0:
+            continue
+        target = levels + law.lowest + offset
+        under, over = target < 0, target >= size
+        inside = ~(under | over)
+        matrix[levels[inside], target[inside]] += weight
+        matrix[levels[under], low_target] += weight
+        matrix[levels[over], high_target] += weight
+    return matrix
+
+
+def substochastic_band(law: StepLaw, size: int, rules: Rules) -> tuple[int, int, np.ndarray, np.ndarray]:
+    """One-period chances among levels low..high that have not ended, in diagonal-ordered band form.
+
+    Returns ``(lower, upper, band, ending)``: ``band[upper + i - j, j]`` = P(i -> j)
+    (scipy's ``solve_banded`` layout, without the identity), and ``ending[i]`` =
+    P(the path ends from level i this period), each a sum of non-negative terms,
+    so elimination can use row sums without ever forming 1 - P(stay).
+    """
+    lower, upper = max(-law.lowest, 0), max(law.highest, 0)
+    band = np.zeros((lower + upper + 1, size))
+    ending = np.zeros(size)
+    levels = np.arange(size)
+    for offset, weight in enumerate(law.probs):
+        if weight == 0.0:
+            continue
+        target = levels + law.lowest + offset
+        under, over = target < 0, target >= size
+        inside = ~(under | over)
+        np.add.at(band, (upper + levels[inside] - target[inside], target[inside]), weight)
+        for leaving, behaviour, end_level in ((under, rules.at_low, 0), (over, rules.at_high, size - 1)):
+            if behaviour == HOLD:
+                np.add.at(band, (upper + levels[leaving] - end_level, np.full(leaving.sum(), end_level)), weight)
+            else:  # ends (a walking end is cut here: the caller's band must be wide enough)
+                ending[leaving] += weight
+    return lower, upper, band, ending

@@ -1,0 +1,216 @@
+"""Buffer sizing: the smallest start level and the smallest capacity meeting a target.
+
+* ``smallest_start``: read off the backward sweep (risk for every start level
+  at once); stock-out risk falls as the start rises (coupling: a walk started
+  higher stays higher, path by path).
+* ``smallest_capacity``: overflow risk falls as the capacity rises (before its
+  first overflow a path does not feel the capacity, and a higher capacity is
+  crossed later, path by path). The search gallops up from the start, so the
+  cheap narrow bands come first and the widest band probed is less than twice
+  the answer, then bisects; every probe is priced before it runs, and uses the
+  forward sweep or operator squaring, whichever costs less.
+* ``risk_by_capacity``: the curve of both risks against capacity, for charts.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+import numpy as np
+from scipy import optimize, stats
+
+from walkmath import checks
+from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
+from walkmath.operator import Rules
+
+if TYPE_CHECKING:
+    from walkmath.banded import BandedWalk
+
+
+@dataclass(frozen=True, eq=False)
+class CapacityRisk:
+    """Risk at the horizon for each capacity: ``overflow[i]`` with capacity ``capacities[i]``."""
+
+    horizon: int
+    capacities: np.ndarray
+    stockout: np.ndarray
+    overflow: np.ndarray
+
+
+def smallest_start(
+    walk: BandedWalk, horizon: int, stockout_target: float, overflow_target: float | None = None
+) -> int | None:
+    """Smallest start level whose stock-out risk (and overflow risk, if given) at the horizon meets the targets."""
+    return walk.risk_by_start(horizon).smallest_meeting(stockout_target, overflow_target)
+
+
+def risk_at_capacity(
+    walk: BandedWalk, horizon: int, capacity: int, *, stockout: bool = True, overflow: bool = True
+) -> tuple[float, float]:
+    """(stock-out, overflow) risk at ``horizon`` with ``capacity``, each by the cheaper exact method.
+
+    A risk not asked for comes back as nan-free 0.0 without being computed.
+    """
+    probe = _with_capacity(walk, capacity)
+    sweep, squaring = probe.cost(horizon, "first_passage"), probe.cost(horizon, "outlook_at")
+    if walk.below != "backorder" and squaring.units < sweep.units * (stockout + overflow):
+        squaring.check()
+        long = probe.outlook_at([horizon])
+        return float(long.stockout[0]), float(long.overflow[0])
+    risk_low = probe.first_passage(horizon, Rules("stop", walk.above))[0] if stockout else 0.0
+    risk_high = probe.first_passage(horizon, Rules(walk.below, "stop"))[1] if overflow else 0.0
+    return risk_low, risk_high
+
+
+def smallest_capacity(
+    walk: BandedWalk,
+    horizon: int,
+    overflow_target: float,
+    stockout_target: float | None = None,
+    *,
+    cap: int = WORK_CAP,
+) -> int | None:
+    """Smallest capacity (at least the start) whose overflow risk at ``horizon`` meets ``overflow_target``.
+
+    With ``stockout_target`` the stock-out risk must be met too: under
+    ``above="spill"`` it only falls as the capacity grows, so the answer is the
+    smallest capacity meeting both; under ``above="stop"`` it only rises (fewer
+    paths end at an overflow), so it is checked at the overflow answer and None
+    returned if it fails there. None also when no capacity can meet the targets.
+
+    The search starts from a guess read off one backward sweep at the walk's
+    own capacity (overflow risk by start level, shifted: exact for a
+    backordering walk, whose risk depends only on the room above the start),
+    confirms it and its neighbour with exact probes, and gallops away from it
+    only when it is off. The whole search stays under ``cap`` units of work
+    (``ComputeTooLarge`` names the capacity reached when the next probe would
+    pass it).
+    """
+    horizon = checks.horizon(horizon)
+    overflow_target = checks.probability("overflow_target", overflow_target)
+    if stockout_target is not None:
+        stockout_target = checks.probability("stockout_target", stockout_target)
+    both = stockout_target is not None and walk.above == "spill"
+    reach = walk.start + horizon * walk.max_up  # beyond it no overflow can happen within the horizon
+    spent = 0
+
+    def meets(capacity: int) -> bool:
+        nonlocal spent
+        spent += _probe_work(walk, horizon, capacity).units * (1 + both)
+        if spent > cap:
+            raise ComputeTooLarge(
+                f"the capacity search reached {capacity:,} without settling within the limit of {cap:.3g} "
+                "units of work; shorten the horizon or coarsen the units"
+            )
+        stockout, overflow = risk_at_capacity(walk, horizon, capacity, stockout=both)
+        return overflow <= overflow_target and (not both or stockout <= stockout_target)
+
+    guess = _guess(walk, horizon, overflow_target, reach)
+    if meets(guess):  # gallop down to a capacity that fails, then bisect
+        lowest, highest, step = guess, guess, 1
+        while lowest > walk.start:
+            probe = max(guess - step, walk.start)
+            if not meets(probe):
+                lowest = probe + 1
+                break
+            highest = lowest = probe
+            step *= 2
+    else:  # gallop up to a capacity that meets, then bisect
+        if guess == reach:
+            return None
+        lowest, step = guess + 1, 1
+        highest = min(guess + step, reach)
+        while not meets(highest):
+            if highest == reach:
+                return None
+            lowest, step = highest + 1, 2 * step
+            highest = min(guess + step, reach)
+    while lowest < highest:
+        middle = (lowest + highest) // 2
+        if meets(middle):
+            highest = middle
+        else:
+            lowest = middle + 1
+    stop_fails = stockout_target is not None and walk.above == "stop"
+    if stop_fails and risk_at_capacity(walk, horizon, lowest, overflow=False)[0] > stockout_target:
+        return None
+    return lowest
+
+
+def _guess(walk: BandedWalk, horizon: int, overflow_target: float, reach: int) -> int:
+    """A first capacity to probe: from the overflow risk by start at the walk's own capacity, shifted."""
+    if walk.high is not None and walk.high > walk.low and walk.cost(horizon, "risk_by_start").units <= WORK_CAP:
+        by_start = walk.risk_by_start(horizon)
+        meeting = np.flatnonzero(by_start.overflow <= overflow_target)  # risk rises with the start
+        if meeting.size:
+            room = walk.high - int(by_start.starts[meeting[-1]])  # room above the start that meets the target
+            return int(min(walk.start + room, reach))
+    # Room beyond the band: the normal approximation of the running maximum (reflection: P(max > x) ~ 2 P(S > x));
+    # for a downward drift, the exponential tail of the maximum, P(max > x) ~ exp(-theta x) per excursion
+    # (Cramer-Lundberg, common practice), with one excursion a period as the worst case.
+    drift = sum(law.mean for law in walk.laws) / len(walk.laws)
+    spread = math.sqrt(sum(law.variance for law in walk.laws) / len(walk.laws) * horizon)
+    target = max(overflow_target, 1e-300)
+    z = float(stats.norm.isf(target / 2)) if overflow_target < 1 else 0.0
+    room = max(drift, 0.0) * horizon + max(z, 0.0) * spread
+    if drift < 0 and walk.max_up > 0:
+        room = min(room, math.log(horizon / target) / _adjustment_coefficient(walk.laws))
+    return int(min(walk.start + max(math.ceil(room), 1), reach))
+
+
+def _adjustment_coefficient(laws) -> float:
+    """theta > 0 with prod_k G_k(e^theta) = 1 for a cycle of laws drifting down (per period, averaged)."""
+
+    def log_g(theta: float) -> float:
+        total = 0.0
+        for law in laws:
+            exponents = np.log(law.probs, where=law.probs > 0, out=np.full(law.probs.size, -np.inf)) + theta * law.steps
+            peak = exponents.max()
+            total += peak + math.log(np.exp(exponents - peak).sum())
+        return total
+
+    high = 1.0
+    while log_g(high) <= 0 and high < 1e6:
+        high *= 2
+    return optimize.brentq(log_g, 1e-12, high) / len(laws)
+
+
+def risk_by_capacity(walk: BandedWalk, horizon: int, capacities) -> CapacityRisk:
+    """Stock-out and overflow risk at ``horizon`` for each capacity (each at least the start)."""
+    horizon = checks.horizon(horizon)
+    wanted = np.array(
+        [checks.whole("capacities", c, minimum=walk.start, maximum=10**9) for c in np.atleast_1d(capacities)],
+        dtype=np.int64,
+    )
+    if wanted.size == 0:
+        raise ValueError("capacities must hold at least one capacity")
+    total = sum(_probe_work(walk, horizon, int(c)).units for c in wanted)
+    Work("risk_by_capacity", int(wanted.max()) - walk.low + 1, horizon, 1, copies=0, dense=total).check()
+    risks = np.array([risk_at_capacity(walk, horizon, int(c)) for c in wanted]).reshape(-1, 2)
+    return CapacityRisk(horizon=horizon, capacities=wanted, stockout=risks[:, 0], overflow=risks[:, 1])
+
+
+def capacity_work(walk: BandedWalk, horizon: int, cap: int = WORK_CAP) -> Work:
+    """Bound of the capacity search's work: galloping to at most twice the answer, then bisection,
+    and never more than ``cap``, where the search stops itself (``ComputeTooLarge``)."""
+    reach = walk.start + horizon * walk.max_up
+    probes = 2 * max(1, (reach - walk.start).bit_length())
+    widest = _probe_work(walk, horizon, min(reach, walk.start + 10**9))
+    units = min(probes * widest.units, cap)
+    return Work("smallest_capacity", widest.levels, horizon, widest.jumps, copies=0, dense=units)
+
+
+def _with_capacity(walk: BandedWalk, capacity: int) -> BandedWalk:
+    from walkmath.banded import BandedWalk
+
+    return BandedWalk(walk.laws, walk.start, walk.low, capacity, walk.below, walk.above)
+
+
+def _probe_work(walk: BandedWalk, horizon: int, capacity: int) -> Work:
+    probe = _with_capacity(walk, capacity)
+    sweep = probe.cost(horizon, "first_passage")
+    if walk.below == "backorder":
+        return sweep
+    return min(sweep, probe.cost(horizon, "outlook_at"), key=lambda work: work.units)
