@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 import walkmath as wm
-from planner.formatting import period_name, periods
+from planner.formatting import period_name, periods, units
 from planner.kinds import Part
 from planner.kinds.stock_plan.params import StockPlanParams
 
@@ -147,6 +147,9 @@ class StockJob:
         ]
         if self.params.high is not None:
             parts.append(Part("smallest_capacity", self._work("smallest_capacity").units, required=False))
+            if self.params.above == "spill":
+                # Only run when the stock-out target is out of reach: the capacity that would meet it.
+                parts.append(Part("capacity_for_stockout", self._work("smallest_capacity").units, required=False))
         parts.append(Part("mean_time", self._work("mean_time").units, required=False))
         return parts
 
@@ -201,7 +204,7 @@ class StockJob:
             laws=self.laws,
             outlook=outlook,
             start_risk=start_risk,
-            start_answer=self._start_answer(start_risk),
+            start_answer=self._start_answer(start_risk, needed="capacity_for_stockout" in allowed),
             capacity_answer=capacity_answer,
             both_answer=both_answer,
             mean_periods_to_stockout=mean_time,
@@ -212,8 +215,11 @@ class StockJob:
             left_out=tuple(left_out),
         )
 
-    def _start_answer(self, risk: wm.StartRisk, *, both: bool = False) -> SizingAnswer:
-        """Smallest start stock meeting the stock-out target (and, with ``both``, the overflow target)."""
+    def _start_answer(self, risk: wm.StartRisk, *, both: bool = False, needed: bool = False) -> SizingAnswer:
+        """Smallest start stock meeting the stock-out target (and, with ``both``, the overflow target).
+
+        When none does and ``needed`` is set, a capacity search says what capacity would meet it.
+        """
         overflow_target = self.overflow_target if both else None
         value = risk.smallest_meeting(self.stockout_target, overflow_target)
         if value is not None:
@@ -230,6 +236,7 @@ class StockJob:
             advice = (
                 f"No start stock from {low} to {top} units meets the stock-out target over "
                 f"{periods(self.params.horizon, self.params.period)}. "
+                + (self._capacity_needed() if needed else "")
                 + ("Raise the capacity, " if self.params.high is not None else "")
                 + "schedule larger or more frequent deliveries, or shorten the horizon."
             )
@@ -241,9 +248,26 @@ class StockJob:
             advice=advice,
         )
 
+    def _capacity_needed(self) -> str:
+        """'With the start stock at 45 units, a capacity of 120 units would meet it. ' (or why none would)."""
+        budget = self._work("smallest_capacity").units
+        try:
+            # Overflow target 1 (always met): the smallest capacity whose spill-over keeps enough stock.
+            capacity = self.walk.smallest_capacity(self.params.horizon, 1.0, self.stockout_target, cap=budget)
+        except wm.ComputeTooLarge:
+            return ""
+        start = units(self.params.start)
+        if capacity is None:
+            return f"With the start stock at {start}, no larger capacity would meet it either. "
+        return f"With the start stock at {start}, a capacity of {units(capacity)} would meet it. "
+
     def _capacity_answer(self) -> SizingAnswer:
         """Smallest capacity meeting the overflow target alone (a costed search in the engine)."""
-        value = self.walk.smallest_capacity(self.params.horizon, self.overflow_target)
+        budget = self._work("smallest_capacity").units
+        try:
+            value = self.walk.smallest_capacity(self.params.horizon, self.overflow_target, cap=budget)
+        except wm.ComputeTooLarge as exc:
+            return SizingAnswer(value=None, target=self.overflow_target, advice=f"Not settled here: {exc}.")
         if value is not None:
             return SizingAnswer(value=value, target=self.overflow_target)
         reach = self.params.start + self.params.horizon * self.walk.max_up

@@ -258,3 +258,19 @@ def test_optional_parts_are_left_out_with_a_note():
     result = job.run({part.name for part in job.parts() if part.required})
     assert result.capacity_answer is None and result.mean_periods_to_stockout is None
     assert len(result.left_out) == 2 and "smallest capacity" in result.left_out[0]
+
+
+def test_unmet_stockout_target_says_what_capacity_would_meet_it():
+    # Upward drift, but a capacity of 3 spills the gains: more room would keep enough stock.
+    params = StockPlanParams(
+        start=3, horizon=30, low=0, high=3, below="lost", above="spill", step_method="nearest", up=0.45, down=0.3
+    )
+    result = run_outlook(params=params, targets=Targets(stockout=0.2, overflow=0.5))
+    assert result.start_answer.value is None
+    advice = result.start_answer.advice
+    needed = int(advice.split("a capacity of ")[1].split(" units")[0])
+
+    def stockout(capacity):  # the same plan straight through walkmath with another capacity
+        return params.replace(high=capacity).walk().outlook(30).stockout[-1]
+
+    assert stockout(needed) <= 0.2 < stockout(needed - 1)
