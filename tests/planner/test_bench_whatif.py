@@ -15,3 +15,11 @@ def test_bench_reports_every_demo_scenario():
     lines = out.getvalue().splitlines()
     assert len(lines) == 3
     assert all("server median" in line and "(status 200)" in line for line in lines)
+
+
+def test_worst_case_bench_finds_the_longest_horizon_within_the_cap(settings):
+    settings.PLANNER_COMPUTE_CAP = 50_000_000  # a small cap keeps this run short
+    out = StringIO()
+    call_command("bench_whatif", worst=True, stdout=out)
+    lines = out.getvalue().splitlines()
+    assert len(lines) == 4 and all("longest within the cap of 5e+07" in line for line in lines)

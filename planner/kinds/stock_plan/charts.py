@@ -26,7 +26,7 @@ from planner.chart_layout import (
 from planner.formatting import period_name, probability, units
 from planner.kinds.stock_plan.compute import StockResult
 
-MAX_HEATMAP_PERIODS = 400  # beyond this the stock heat map shows every k-th period
+MAX_HEATMAP_CELLS = 40_000  # beyond this the stock heat map shows every k-th period (keeps the JSON near 1 MB)
 HEATMAP_FLOOR = 1e-9  # stock levels never reaching this probability are trimmed from the heat map
 
 
@@ -47,7 +47,8 @@ def outlook_chart(result: StockResult) -> dict:
     levels = result.outlook.levels
     keep = np.flatnonzero(probs.max(axis=0) >= HEATMAP_FLOOR)
     rows = slice(keep[0], keep[-1] + 1) if keep.size else slice(0, levels.size)
-    stride = max(1, -(-probs.shape[0] // MAX_HEATMAP_PERIODS))
+    level_count = rows.stop - rows.start
+    stride = max(1, -(-probs.shape[0] * level_count // MAX_HEATMAP_CELLS))
     shown = probs[::stride, rows]
     # Colour saturates at the 99th percentile of the cells in use, so the early point mass does not wash
     # out the spread later on; hover still reads the exact value.

@@ -2,27 +2,49 @@
 
 Runs the real view through Django's test client against the configured database
 (load_demo first) and reports the median and worst of several calls per scenario.
+``--worst`` instead times the most expensive pages the compute cap still allows:
+for each of a few plan shapes, the longest horizon within ``PLANNER_COMPUTE_CAP``.
 """
 
+import json
 import statistics
 import time
 
+from django.conf import settings
 from django.contrib.auth import get_user_model
 from django.core.management.base import BaseCommand
 from django.test import Client
 from django.urls import reverse
 
+from planner import reading
+from planner.kinds import get_kind
 from planner.models import Scenario
+
+# Plan shapes near the cap's worst case: wide daily laws on a narrow store, many narrow periods, a weekly cycle.
+WORST_SHAPES = {
+    "capacity 200, Poisson 40 in and out": {"start": 100, "high": 200, "below": "lost", "step_method": "net"}
+    | {"arrivals": {"family": "poisson", "mean": 40}, "demand": {"family": "poisson", "mean": 40}},
+    "capacity 60, Poisson 150 in and out": {"start": 30, "high": 60, "below": "lost", "step_method": "net"}
+    | {"arrivals": {"family": "poisson", "mean": 150}, "demand": {"family": "poisson", "mean": 150}},
+    "capacity 700, one up or down": {"start": 350, "high": 700, "below": "lost", "step_method": "nearest"}
+    | {"up": 0.3, "down": 0.3},
+    "capacity 300, weekly cycle": {"start": 150, "high": 300, "below": "lost", "step_method": "net"}
+    | {"demand": {"family": "negative_binomial", "mean": 6, "variance": 18}, "profile": [1, 1, 1.2, 1.4, 0.6, 0.8, 0.9]}
+    | {"delivery_every": 7, "delivery_size": 40},
+}
 
 
 class Command(BaseCommand):
-    help = "Time the what-if JSON endpoint on the demo scenarios."
+    help = "Time the what-if JSON endpoint on the demo scenarios (or, with --worst, the costliest allowed pages)."
 
     def add_arguments(self, parser):
         parser.add_argument("--repeat", type=int, default=15)
         parser.add_argument("--username", default="demo")
+        parser.add_argument("--worst", action="store_true")
 
-    def handle(self, *args, repeat, username, **options):
+    def handle(self, *args, repeat, username, worst, **options):
+        if worst:
+            return self._worst()
         user = get_user_model().objects.get(username=username)
         client = Client(HTTP_HOST="localhost")
         client.force_login(user)
@@ -30,7 +52,7 @@ class Command(BaseCommand):
             params = scenario.params
             url = reverse("scenario_outlook_json", args=[scenario.pk])
             query = {"start": max(params.low, params.start - 1), "horizon": params.horizon}
-            client.get(url, query)  # warm caches (imports, plotly validators)
+            client.get(url, query)  # warm caches (imports)
             wall, server = [], []
             for _ in range(repeat):
                 began = time.perf_counter()
@@ -41,3 +63,35 @@ class Command(BaseCommand):
                 f"{scenario.title}: server median {statistics.median(server):.1f} ms, worst {max(server):.1f} ms; "
                 f"request incl. session/JSON median {statistics.median(wall):.1f} ms (status {response.status_code})"
             )
+
+    def _worst(self) -> None:
+        kind = get_kind("stock_plan")
+        for name, shape in WORST_SHAPES.items():
+            horizon = self._longest_horizon(kind, shape)
+            if horizon is None:
+                self.stdout.write(f"{name}: refused at every horizon")
+                continue
+            scenario = Scenario(kind=kind.key, parameters=shape | {"horizon": horizon}, stockout_target=0.01)
+            began = time.perf_counter()
+            found = reading.scenario_reading(scenario=scenario)
+            body = json.dumps({n: chart["figure"] for n, chart in kind.figures(found.result).items()})
+            self.stdout.write(
+                f"{name}, {horizon} days (longest within the cap of {settings.PLANNER_COMPUTE_CAP:.3g}): "
+                f"{time.perf_counter() - began:.2f} s, figures {len(body) / 1e6:.2f} MB"
+            )
+
+    @staticmethod
+    def _longest_horizon(kind, shape: dict) -> int | None:
+        def fits(horizon: int) -> bool:
+            params = kind.params_from_json(shape | {"horizon": horizon})
+            try:
+                job = kind.prepare(params, 0.01, 0.05)
+                return sum(part.units for part in job.parts() if part.required) <= settings.PLANNER_COMPUTE_CAP
+            except ValueError:
+                return False
+
+        low, high = 0, 3650
+        while low < high:
+            middle = (low + high + 1) // 2
+            low, high = (middle, high) if fits(middle) else (low, middle - 1)
+        return low or None
