@@ -92,7 +92,10 @@ def layout(
     return result
 
 
-def line(x, y, name: str, color: str, *, width: float = 2.5, dash: str | None = None, markers: bool = False) -> dict:
+def line(
+    x, y, name: str, color: str, *, width: float = 2.5, dash: str | None = None, markers: bool = False, hover=None
+) -> dict:
+    """A line trace; ``hover`` (e.g. ``formatting.probability``) writes each hover value with our formatter."""
     trace = {
         "type": "scatter",
         "x": as_list(x),
@@ -105,6 +108,9 @@ def line(x, y, name: str, color: str, *, width: float = 2.5, dash: str | None = 
         trace["line"]["dash"] = dash
     if markers:
         trace["marker"] = {"size": 5}
+    if hover is not None:
+        trace["customdata"] = [hover(value) for value in trace["y"]]
+        trace["hovertemplate"] = f"{name}: %{{customdata}}<extra></extra>"
     return trace
 
 

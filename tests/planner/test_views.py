@@ -317,3 +317,38 @@ def test_admin_lists_scenarios_for_staff(client, scenario, django_user_model):
     staff = django_user_model.objects.create_superuser("marit", password=PASSWORD)
     client.force_login(staff)
     assert b"Rye loaf shelf" in client.get("/admin/planner/scenario/").content
+
+
+def test_a_plan_with_no_demand_at_all_shows_its_results(client, owner):
+    # Negative binomial demand with mean 0 is a point mass at 0: the stock never moves.
+    client.force_login(owner)
+    data = {
+        "title": "Spare oven gloves",
+        "period": "month",
+        "start": "4",
+        "low": "0",
+        "high": "",
+        "below": "backorder",
+        "above": "spill",
+        "horizon": "12",
+        "step_method": "net",
+        "demand_family": "negative_binomial",
+        "demand_mean": "0",
+        "demand_variance": "1",
+        "arrivals_family": "none",
+        "stockout_target": "1",
+        "overflow_target": "1",
+    }
+    response = client.post(reverse("scenario_new_kind", kwargs={"kind": "stock_plan"}), data)
+    assert response.status_code == 302, response.content.decode()[:2000]
+    scenario = Scenario.objects.get()
+    assert scenario.headline_risk == 0.0
+    page = client.get(scenario.get_absolute_url()).content.decode()
+    assert "over 12 months" in page and "not certain to happen" in page
+
+
+def test_hover_values_use_the_formatter(client, scenario):
+    client.force_login(scenario.owner)
+    body = client.get(url_for("scenario_outlook_json", scenario, {})).json()
+    trace = body["figures"]["risk"]["data"][0]
+    assert trace["customdata"] == [probability(value) for value in trace["y"]]

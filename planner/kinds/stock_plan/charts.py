@@ -89,7 +89,7 @@ def risk_chart(result: StockResult) -> dict:
     y_range = log_range(result.outlook.stockout, result.outlook.overflow, [result.stockout_target])
     fig = {
         "data": [
-            line(x, result.outlook.stockout, "stock-out", STOCKOUT),
+            line(x, result.outlook.stockout, "stock-out", STOCKOUT, hover=probability),
             target_line(x, result.stockout_target, "stock-out target"),
         ],
         "layout": layout(
@@ -101,7 +101,7 @@ def risk_chart(result: StockResult) -> dict:
         f"{result.span} (target {probability(result.stockout_target)})"
     )
     if result.params.high is not None:
-        fig["data"].append(line(x, result.outlook.overflow, "overflow", OVERFLOW))
+        fig["data"].append(line(x, result.outlook.overflow, "overflow", OVERFLOW, hover=probability))
         fig["data"].append(target_line(x, result.overflow_target, "overflow target", dash="dot"))
         fig["layout"]["title"]["text"] = f"Chance of a stock-out or overflow by each {name}"
         summary += (
@@ -115,7 +115,7 @@ def start_chart(result: StockResult) -> dict:
     """Risk over the horizon for every start stock, the target lines and the current start."""
     risk = result.start_risk
     fig = {
-        "data": [line(risk.starts, risk.stockout, "stock-out", STOCKOUT, width=2, markers=True)],
+        "data": [line(risk.starts, risk.stockout, "stock-out", STOCKOUT, width=2, markers=True, hover=probability)],
         "layout": layout(
             f"Risk by start stock over {result.span}",
             "start stock (units)",
@@ -127,7 +127,9 @@ def start_chart(result: StockResult) -> dict:
     }
     bounded = result.params.high is not None
     if bounded:
-        fig["data"].append(line(risk.starts, risk.overflow, "overflow", OVERFLOW, width=2, markers=True))
+        fig["data"].append(
+            line(risk.starts, risk.overflow, "overflow", OVERFLOW, width=2, markers=True, hover=probability)
+        )
     if risk.starts.size:
         fig["data"].append(target_line(risk.starts, result.stockout_target, "stock-out target"))
         if bounded:
@@ -193,8 +195,8 @@ def normal_chart(result: StockResult) -> dict:
     name = period_name(result.period)
     fig = {
         "data": [
-            line(x, result.outlook.stockout, "exact", STOCKOUT),
-            line(x, result.normal_stockout, "normal approximation", NORMAL, width=2, dash="dash"),
+            line(x, result.outlook.stockout, "exact", STOCKOUT, hover=probability),
+            line(x, result.normal_stockout, "normal approximation", NORMAL, width=2, dash="dash", hover=probability),
             target_line(x, result.stockout_target, "stock-out target"),
         ],
         "layout": layout(

@@ -18,6 +18,7 @@ import walkmath as wm
 from planner.formatting import period_name, periods, units
 from planner.kinds import Part
 from planner.kinds.stock_plan.params import StockPlanParams
+from planner.kinds.stock_plan.words import ABOVE_SHORT, BELOW_SHORT
 
 # Largest stock-by-period table a request keeps (levels x periods floats; 4e6 cells = 32 MB).
 MAX_LEVEL_CELLS = 4_000_000
@@ -103,6 +104,14 @@ class StockResult:
     def level_probs(self) -> np.ndarray:
         """P(stock at period n = level, still counted): a second sweep on first access."""
         return self.outlook.level_probs
+
+    @property
+    def unmet_words(self) -> str:
+        return BELOW_SHORT.get(self.params.below, self.params.below)
+
+    @property
+    def excess_words(self) -> str:
+        return ABOVE_SHORT.get(self.params.above, self.params.above)
 
     @property
     def span(self) -> str:

@@ -15,18 +15,9 @@ from django import forms
 from planner.formatting import PERIODS, period_name
 from planner.forms import ScenarioFields
 from planner.kinds.stock_plan.params import MAX_HORIZON, MAX_JUMP, MAX_LEVEL, CountLaw, StockPlanParams
+from planner.kinds.stock_plan.words import ABOVE_CHOICE, BELOW_CHOICE
 from walkmath import checks
 
-# Labels for walkmath's rule names (the names themselves come from walkmath.checks).
-BELOW_WORDS = {
-    "backorder": "Backordered: owed and served from later deliveries (the stock goes below the floor)",
-    "lost": "Lost sales: the demand is lost and the stock stays at the floor",
-    "stop": "Count the first stock-out only (figures stop at it)",
-}
-ABOVE_WORDS = {
-    "spill": "Spilled or turned away: the stock stays at capacity",
-    "stop": "Count the first overflow only (figures stop at it)",
-}
 STEP_CHOICES = [
     ("net", "Demand and deliveries (the usual way)"),
     ("table", "Advanced: probability of each change"),
@@ -296,12 +287,12 @@ class StockPlanForm(ScenarioFields, ChangeLawForm):
     )
     below = forms.ChoiceField(
         label="Demand the stock cannot meet",
-        choices=[(rule, BELOW_WORDS.get(rule, rule)) for rule in checks.BELOW_RULES],
+        choices=[(rule, BELOW_CHOICE.get(rule, rule)) for rule in checks.BELOW_RULES],
         initial=checks.DEFAULT_BELOW,
     )
     above = forms.ChoiceField(
         label="Stock beyond capacity",
-        choices=[(rule, ABOVE_WORDS.get(rule, rule)) for rule in checks.ABOVE_RULES],
+        choices=[(rule, ABOVE_CHOICE.get(rule, rule)) for rule in checks.ABOVE_RULES],
         initial=checks.DEFAULT_ABOVE,
     )
     horizon = forms.IntegerField(label="Horizon ({many})", min_value=1, max_value=MAX_HORIZON, initial=28)
