@@ -73,9 +73,10 @@ def outlook_chart(result: StockResult) -> dict:
         add_hline(fig, result.params.high + 0.5, "capacity", OVERFLOW)
     final = result.outlook.final
     low, high = _quantile(final.levels, final.probs, 0.05), _quantile(final.levels, final.probs, 0.95)
+    counted = " (of the outcomes still counted)" if "stop" in (result.params.below, result.params.above) else ""
     summary = (
-        f"Stock by {name} {result.horizon}: between {units(low)} and {units(high)} with 90 % probability "
-        f"(plans still counted), from a start of {units(result.params.start)}."
+        f"Stock by {name} {result.horizon}: between {units(low)} and {units(high)} with 90 % probability{counted}, "
+        f"from a start of {units(result.params.start)}."
         if low is not None
         else f"Every plan path has stopped by {name} {result.horizon}."
     )

@@ -155,8 +155,10 @@ class ChangeLawForm(forms.Form):
         period = period if isinstance(period, str) and period in PERIODS else "day"
         self.plan_period = period
         for field in self.fields.values():
-            field.label = _period_word(str(field.label), period)
-            field.help_text = _period_word(str(field.help_text), period)
+            if field.label:  # None: Django derives the label from the field name
+                field.label = _period_word(str(field.label), period)
+            if field.help_text:
+                field.help_text = _period_word(str(field.help_text), period)
             if isinstance(field, forms.ChoiceField):
                 field.choices = [
                     (key, _period_word(str(text).replace("every period", "every {one}"), period))
@@ -276,7 +278,7 @@ class StockPlanForm(ScenarioFields, ChangeLawForm):
         initial=0,
         min_value=-MAX_LEVEL,
         max_value=MAX_LEVEL,
-        help_text="A stock-out is a {one} whose demand would take the stock below this level; usually 0.",
+        help_text="A stock-out is a {one} whose net change would take the stock below this level; usually 0.",
     )
     high = forms.IntegerField(
         label="Capacity (units)",

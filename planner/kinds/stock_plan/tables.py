@@ -7,8 +7,8 @@ from planner.formatting import period_name
 from planner.kinds.stock_plan.compute import StockResult
 
 TABLES = {
-    "stock-by-period": "stock level by period",
-    "risk-curves": "risk by period",
+    "stock-by-period": "stock level over the horizon",
+    "risk-curves": "risk over the horizon",
     "risk-by-start": "risk by start stock",
 }
 

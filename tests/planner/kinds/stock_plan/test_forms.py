@@ -166,3 +166,8 @@ def test_whatif_form_only_parses():
     assert form.changes() == {"start": 7, "up": 0.2}
     assert WhatIfForm({"no_capacity": "on"}).is_valid()
     assert not WhatIfForm({"start": "seven"}).is_valid()
+
+
+def test_fields_without_a_label_keep_the_derived_one():
+    form = StockPlanForm()
+    assert form["notes"].label == "Notes" and not form.fields["title"].help_text
