@@ -23,11 +23,13 @@ import numpy as np
 from walkmath import checks, longrun, risk, sizing
 from walkmath import cost as _cost
 from walkmath.checks import ABOVE_RULES, BELOW_RULES, DEFAULT_ABOVE, DEFAULT_BELOW
-from walkmath.cost import COST_METHODS, WORK_CAP, Work
+from walkmath.cost import COST_METHODS, WORK_CAP, ComputeTooLarge, Work
 from walkmath.distribution import LevelDistribution
 from walkmath.operator import Forward, Rules
 from walkmath.steplaw import StepLaw, as_cycle
 
+# Largest level-by-period table ``Outlook.level_probs`` builds (200 MB of floats).
+LEVEL_TABLE_CAP = 25_000_000
 # Kept for callers of the first release: the engine's cap, now in work units (see walkmath.cost).
 COMPUTE_CAP = WORK_CAP
 
@@ -180,6 +182,11 @@ class BandedWalk:
         self.cost(horizon, "level_probs" if keep_levels else "outlook").check()
         grid_low, grid_high = self._grid(horizon, self.start)
         size = grid_high - grid_low + 1
+        if keep_levels and (horizon + 1) * size > LEVEL_TABLE_CAP:
+            raise ComputeTooLarge(
+                f"the level law for every period needs {(horizon + 1) * size:,} numbers (at most "
+                f"{LEVEL_TABLE_CAP:,}, {LEVEL_TABLE_CAP * 8 // 2**20} MB); shorten the horizon or narrow the band"
+            )
         copies, stockout_copy, overflow_copy = self._copies()
         band_hi = None if self.high is None else self.high - grid_low
         forward = Forward(copies, size, self.low - grid_low, band_hi)
@@ -217,8 +224,8 @@ class BandedWalk:
         outlook = Outlook(
             horizon=horizon,
             levels=levels,
-            stockout=curves[0],
-            overflow=curves[1],
+            stockout=np.minimum(curves[0], 1.0),  # sums of ended mass: the cap meets only a last-ulp rounding
+            overflow=np.minimum(curves[1], 1.0),
             alive=np.minimum(curves[5], 1.0),
             lost_units=curves[3],
             spilled_units=curves[4],

@@ -70,49 +70,55 @@ class Forward:
         self.rules = rules
         self.size, self.band_lo, self.band_hi = size, band_lo, band_hi
         self.end_low = np.array([r.at_low == END for r in rules])
-        self.hold_low = np.array([r.at_low == HOLD for r in rules])
         self.end_high = np.array([r.at_high == END for r in rules])
-        self.hold_high = ~self.end_high
-        self.walks_below = any(r.at_low == WALK for r in rules)
+        self.any_hold_low = any(r.at_low == HOLD for r in rules)
+        self.any_hold_high = any(r.at_high == HOLD for r in rules)
+        self.any_walk_low = any(r.at_low == WALK for r in rules)
 
     def step(self, mass: np.ndarray, reach: tuple[int, int], law: StepLaw) -> tuple[tuple[int, int], Flows]:
-        """Advance ``mass`` one period in place; return the new reach and what left the band."""
+        """Advance ``mass`` one period in place; return the new reach and what left the band.
+
+        One convolution per copy (at most three), then a few slices: the
+        per-period cost is the convolution plus a fixed handful of numpy calls.
+        """
         lo, hi = reach
-        first = lo + law.lowest  # grid index of moved[:, 0]
-        moved = np.stack([np.convolve(row[lo : hi + 1], law.probs) for row in mass])
-        copies = len(self.rules)
-        fell, rose = np.zeros(copies), np.zeros(copies)
-        lost_units = spilled_units = 0.0
+        first = lo + law.lowest  # grid index of moved[0]
+        last = hi + law.highest
         under = self.band_lo - first  # entries of ``moved`` below low
-        if under > 0:
-            below = moved[:, :under]
-            fell = below.sum(axis=1)
-            if self.rules[0].at_low == HOLD:
-                shortfall = np.arange(under, under - below.shape[1], -1, dtype=float)
-                lost_units = float(below[0] @ shortfall)
-            ended = ~np.array([r.at_low == WALK for r in self.rules])
-            below[ended] = 0.0
-        if self.band_hi is not None and first + moved.shape[1] - 1 > self.band_hi:
-            over_at = max(self.band_hi - first + 1, 0)
-            above = moved[:, over_at:]
-            rose = above.sum(axis=1)
-            if self.rules[0].at_high == HOLD:
-                excess = np.arange(above.shape[1], dtype=float) + (first + over_at - self.band_hi)
-                spilled_units = float(above[0] @ excess)
-            above[:] = 0.0
-        mass[:, lo : hi + 1] = 0.0
-        start = max(first, 0)
-        stop = max(min(first + moved.shape[1], self.size), start)
-        mass[:, start:stop] = moved[:, start - first : stop - first]
-        if under > 0:
-            mass[self.hold_low, self.band_lo] += fell[self.hold_low]
-            if self.hold_low.any():
-                start, stop = min(start, self.band_lo), max(stop, self.band_lo + 1)
-        if rose.any():
-            mass[self.hold_high, self.band_hi] += rose[self.hold_high]
-            if self.hold_high.any():
-                start, stop = min(start, self.band_hi), max(stop, self.band_hi + 1)
-        if not self.walks_below:
+        over_at = None
+        if self.band_hi is not None and last > self.band_hi:
+            over_at = max(self.band_hi - first + 1, 0)  # first entry of ``moved`` above high
+        start = min(max(first, 0), self.size)  # the part of ``moved`` that lands on the grid
+        stop = max(min(last + 1, self.size), start)
+        fell, rose = np.zeros(len(self.rules)), np.zeros(len(self.rules))
+        lost_units = spilled_units = 0.0
+        for copy, rules in enumerate(self.rules):
+            moved = np.convolve(mass[copy, lo : hi + 1], law.probs)
+            mass[copy, lo : hi + 1] = 0.0
+            if under > 0:
+                below = moved[:under]
+                fell[copy] = below.sum()
+                if copy == 0 and rules.at_low == HOLD:
+                    lost_units = float(below @ np.arange(under, under - below.size, -1, dtype=float))
+                if rules.at_low != WALK:
+                    below[:] = 0.0
+            if over_at is not None:
+                above = moved[over_at:]
+                rose[copy] = above.sum()
+                if copy == 0 and rules.at_high == HOLD:
+                    spilled_units = float(above @ np.arange(first + over_at - self.band_hi, last - self.band_hi + 1.0))
+                above[:] = 0.0
+            if stop > start:
+                mass[copy, start:stop] = moved[start - first : stop - first]
+            if under > 0 and rules.at_low == HOLD:
+                mass[copy, self.band_lo] += fell[copy]
+            if over_at is not None and rules.at_high == HOLD:
+                mass[copy, self.band_hi] += rose[copy]
+        if under > 0 and self.any_hold_low:
+            start, stop = min(start, self.band_lo), max(stop, self.band_lo + 1)
+        if over_at is not None and self.any_hold_high:
+            start, stop = min(start, self.band_hi), max(stop, self.band_hi + 1)
+        if not self.any_walk_low:
             start = max(start, self.band_lo)
         return (start, stop - 1), Flows(fell, rose, lost_units, spilled_units)
 

@@ -72,8 +72,12 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
                 overflow, law, *end_values(rules, overflow, "overflow", band_lo=band_lo, capacity=capacity)
             )
     rows = np.arange(walk.low, top + 1) - grid_low
+    # Each value is a weighted mean of values in [0, 1]; the cap meets only a last-ulp rounding.
     return StartRisk(
-        horizon=horizon, starts=np.arange(walk.low, top + 1), stockout=stockout[rows], overflow=overflow[rows]
+        horizon=horizon,
+        starts=np.arange(walk.low, top + 1),
+        stockout=np.minimum(stockout[rows], 1.0),
+        overflow=np.minimum(overflow[rows], 1.0),
     )
 
 

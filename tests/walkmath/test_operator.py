@@ -111,3 +111,37 @@ def test_cost_names_each_method_and_grows_with_jumps():
     assert wide.cost(365).jumps == 31
     with pytest.raises(ValueError, match="method"):
         wide.cost(365, "everything")
+
+
+def _mp_stockout(law, start, high, horizon):
+    """Stock-out by ``horizon`` (stop below 0, spill at ``high``) in 50-digit mpmath, level by level."""
+    import mpmath
+
+    mpmath.mp.dps = 50
+    probs = [mpmath.mpf(float(p)) for p in law.probs]
+    mass = {start: mpmath.mpf(1)}
+    ended = mpmath.mpf(0)
+    for _ in range(horizon):
+        fresh: dict = {}
+        for level, weight in mass.items():
+            for offset, p in enumerate(probs):
+                target = min(level + law.lowest + offset, high)
+                if target < 0:
+                    ended += weight * p
+                else:
+                    fresh[target] = fresh.get(target, 0) + weight * p
+        mass = fresh
+    return ended
+
+
+def test_far_tail_of_a_daily_flow_keeps_relative_accuracy_against_mpmath():
+    # Poisson(3) in and out (about 50 jumps); a 1e-30-scale stock-out from a high start; reference:
+    # the same truncated law walked in 50-digit mpmath arithmetic (mpmath, a general-purpose library).
+    law = wm.StepLaw.net(arrivals=wm.StepLaw.poisson(3.0), demand=wm.StepLaw.poisson(3.0))
+    walk = wm.BandedWalk(law, start=60, low=0, high=65, below="stop", above="spill")
+    exact = float(_mp_stockout(law, 60, 65, 4))
+    assert 1e-40 < exact < 1e-15
+    assert walk.outlook(4).stockout[-1] == pytest.approx(exact, rel=1e-8)
+    by_start = walk.risk_by_start(4)
+    assert by_start.stockout[60] == pytest.approx(exact, rel=1e-8)
+    assert walk.outlook_at([4]).stockout[0] == pytest.approx(exact, rel=1e-8)
