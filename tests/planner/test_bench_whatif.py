@@ -22,4 +22,4 @@ def test_worst_case_bench_finds_the_longest_horizon_within_the_cap(settings):
     out = StringIO()
     call_command("bench_whatif", worst=True, stdout=out)
     lines = out.getvalue().splitlines()
-    assert len(lines) == 4 and all("longest within the cap of 5e+07" in line for line in lines)
+    assert len(lines) == 5 and all("longest within the cap of 5e+07" in line for line in lines)

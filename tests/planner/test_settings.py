@@ -19,7 +19,7 @@ def load_settings(**env) -> subprocess.CompletedProcess:
 def test_defaults_run_on_sqlite():
     done = load_settings()
     assert done.returncode == 0, done.stderr
-    assert done.stdout.split() == ["django.db.backends.sqlite3", "900000000"]
+    assert done.stdout.split() == ["django.db.backends.sqlite3", "1200000000"]
 
 
 def test_database_url_switches_to_postgresql():

@@ -26,6 +26,9 @@ WORST_SHAPES = {
     | {"arrivals": {"family": "poisson", "mean": 40}, "demand": {"family": "poisson", "mean": 40}},
     "capacity 60, Poisson 150 in and out": {"start": 30, "high": 60, "below": "lost", "step_method": "net"}
     | {"arrivals": {"family": "poisson", "mean": 150}, "demand": {"family": "poisson", "mean": 150}},
+    "capacity 20, negative binomial demand of 2,000 a day, daily delivery": {"start": 10, "high": 20}
+    | {"below": "lost", "step_method": "net", "demand": {"family": "negative_binomial", "mean": 2000, "variance": 8000}}
+    | {"delivery_every": 1, "delivery_size": 2000},
     "capacity 700, one up or down": {"start": 350, "high": 700, "below": "lost", "step_method": "nearest"}
     | {"up": 0.3, "down": 0.3},
     "capacity 300, weekly cycle": {"start": 150, "high": 300, "below": "lost", "step_method": "net"}
