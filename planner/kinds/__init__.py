@@ -69,16 +69,18 @@ class Kind:
         """The inputs that differ, in the analyst's words ('start stock 4 → 2 units')."""
         raise NotImplementedError
 
-    def prepare(self, params, targets):
-        """A job: laws built once; ``.parts()`` prices each engine call, ``.run(parts)`` computes."""
-        raise NotImplementedError
+    def prepare(self, params, stockout_target: float, overflow_target: float):
+        """A job for one request, its laws built once. The read service calls:
 
-    def headline(self, result) -> tuple[float | None, str]:
-        """The stock-out risk the scenario list shows and its span ('over 8 weeks')."""
+        ``parts()`` -> list of ``Part`` (each engine call priced with ``walk.cost``; may raise
+        ComputeTooLarge itself), ``refusal(units, cap)`` -> the analyst's message when the
+        required parts exceed the cap, ``run(allowed)`` -> the result (parts not in
+        ``allowed`` left out with a note) and ``headline()`` -> (stock-out risk, span) stored at save.
+        """
         raise NotImplementedError
 
     def figures(self, result) -> dict[str, dict]:
-        """Charts as plain plotly JSON dicts, each with a ``summary`` sentence and its ``table``."""
+        """Charts by name: ``{"figure": {"data", "layout"}, "summary": one sentence, "table": CSV slug}``."""
         raise NotImplementedError
 
     def table_rows(self, result, table: str) -> Iterator[list]:
@@ -88,6 +90,10 @@ class Kind:
     def preview_form(self, data):
         """The form behind the live preview (None: the kind has no preview)."""
         return None
+
+    def preview_parts(self, form) -> list[Part]:
+        """The preview's work, priced before it is built."""
+        raise NotImplementedError
 
     def preview(self, form) -> dict:
         raise NotImplementedError
