@@ -205,7 +205,8 @@ class StockJob:
         if "mean_time" in allowed:
             mean_time = walk.mean_periods_to_stockout()
         else:
-            left_out.append(f"the expected {period_name(params.period, 2)} to the first stock-out (set a capacity)")
+            why = "set a capacity" if params.high is None else "too large a solve for one request"
+            left_out.append(f"the expected {period_name(params.period, 2)} to the first stock-out ({why})")
         return StockResult(
             params=params,
             stockout_target=self.stockout_target,
