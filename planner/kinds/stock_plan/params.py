@@ -16,6 +16,7 @@ loads unchanged.
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from dataclasses import dataclass
 
@@ -54,6 +55,15 @@ def _table(name: str, rows) -> tuple[tuple[int, float], ...]:
         raise ValueError(f"{name} must list each value once")
     weights = checks.probability_vector(f"{name} probabilities", [p for _, p in rows])
     return tuple(zip(values, (float(w) for w in weights), strict=True))
+
+
+# Count laws kept across requests (at most 64 x MAX_LAW_WIDTH floats, about 10 MB).
+LAW_CACHE_SIZE = 64
+
+
+@functools.lru_cache(maxsize=LAW_CACHE_SIZE)
+def _count_law(law: CountLaw, scale: float) -> wm.StepLaw:
+    return law._build(scale)
 
 
 @dataclass(frozen=True)
@@ -99,7 +109,15 @@ class CountLaw:
         return self.table[-1][0] - self.table[0][0] + 1 if self.table else 1
 
     def law(self, scale: float = 1.0) -> wm.StepLaw:
-        """The walkmath law, with the mean (and variance) multiplied by ``scale``."""
+        """The walkmath law, with the mean (and variance) multiplied by ``scale``.
+
+        Kept in a small cache shared by requests (``LAW_CACHE_SIZE`` laws, each at most
+        ``MAX_LAW_WIDTH`` floats): a what-if on a plan rebuilds the same count laws each time, and a
+        StepLaw is immutable.
+        """
+        return _count_law(self, float(scale))
+
+    def _build(self, scale: float) -> wm.StepLaw:
         if self.family in SCALABLE_FAMILIES and self.mean * scale == 0:
             return wm.StepLaw.fixed(0)  # no demand at all (a mean-0 negative binomial is a point mass at 0)
         if self.family == "poisson":

@@ -235,3 +235,24 @@ def test_first_release_json_still_loads_as_days(data):
     params = StockPlanParams.from_json(data)
     assert params.period == "day" and params.start == data["start"]
     assert StockPlanParams.from_json(params.to_json()) == params
+
+
+def test_count_laws_are_built_once_and_shared(monkeypatch):
+    from planner.kinds.stock_plan import params as module
+
+    module._count_law.cache_clear()
+    built = []
+    real = wm.StepLaw.poisson
+
+    def counting(mean):
+        built.append(mean)
+        return real(mean=mean)
+
+    monkeypatch.setattr(wm.StepLaw, "poisson", counting)
+    plan = net(None, CountLaw("poisson", mean=2.0), profile=(1.0, 1.5, 1.0, 1.5))
+    first, again = plan.step_laws(), plan.replace(start=3).step_laws()
+    assert built == [2.0, 3.0]  # one law per distinct factor, and none rebuilt for the second request
+    assert [pmf(law) for law in first] == [pmf(law) for law in again]
+    shared = plan.demand.law(1.5)
+    assert shared is plan.replace(start=3).demand.law(1.5) and not shared.probs.flags.writeable
+    assert module._count_law.cache_info().maxsize == module.LAW_CACHE_SIZE
