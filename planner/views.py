@@ -33,7 +33,6 @@ from planner.forms import SaveAsNewForm, scenario_initial, scenario_values
 from planner.kinds import all_kinds, get_kind
 from planner.models import Scenario
 from planner.permissions import get_scenario_for
-from walkmath import ComputeTooLarge
 
 
 class InvalidChanges(ValueError):
@@ -79,7 +78,7 @@ def scenario_new_kind(request, kind: str):
     if form.is_valid():
         try:
             scenario = services.scenario_create(owner=request.user, kind=kind.key, **scenario_values(form))
-        except ComputeTooLarge as exc:
+        except ValueError as exc:  # the plan cannot be computed (ComputeTooLarge or an engine limit)
             form.add_error(None, f"Nothing was saved. {exc}")
         else:
             messages.success(request, f"Saved “{scenario.title}”.")
@@ -96,7 +95,7 @@ def scenario_edit(request, pk: int):
     if request.method == "POST" and form.is_valid():
         try:
             services.scenario_update(scenario=scenario, **scenario_values(form))
-        except ComputeTooLarge as exc:
+        except ValueError as exc:  # the plan cannot be computed (ComputeTooLarge or an engine limit)
             form.add_error(None, f"Nothing was saved. {exc}")
         else:
             messages.success(request, f"Updated “{scenario.title}”.")

@@ -352,3 +352,28 @@ def test_hover_values_use_the_formatter(client, scenario):
     body = client.get(url_for("scenario_outlook_json", scenario, {})).json()
     trace = body["figures"]["risk"]["data"][0]
     assert trace["customdata"] == [probability(value) for value in trace["y"]]
+
+
+def test_a_plan_too_large_to_compute_is_not_saved_and_says_why(client, owner, settings):
+    settings.PLANNER_COMPUTE_CAP = 1_000_000
+    client.force_login(owner)
+    data = {
+        "title": "Flour by the gram",
+        "period": "day",
+        "start": "50",
+        "low": "0",
+        "high": "",
+        "below": "backorder",
+        "above": "spill",
+        "horizon": "200",
+        "step_method": "nearest",
+        "up": "0.3",
+        "down": "0.3",
+        "demand_family": "poisson",
+        "stockout_target": "1",
+        "overflow_target": "1",
+    }
+    response = client.post(reverse("scenario_new_kind", kwargs={"kind": "stock_plan"}), data)
+    page = response.content.decode()
+    assert response.status_code == 200 and "Nothing was saved" in page and "set a capacity" in page
+    assert not Scenario.objects.exists()
