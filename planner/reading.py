@@ -39,18 +39,27 @@ def saved_params(scenario) -> Any:
     return get_kind(scenario.kind).params_from_json(scenario.parameters)
 
 
-def _allowed(job) -> set[str]:
-    """Names of the parts this request computes; ComputeTooLarge if the required ones exceed the cap."""
+def _allowed(job) -> dict[str, int]:
+    """The parts this request computes, each with its budget in work units; together within the cap.
+
+    ComputeTooLarge (the job's own message) if the required parts alone exceed the cap. Optional
+    parts with a fixed price come next while they fit; parts that stop themselves share what is left.
+    """
     cap = settings.PLANNER_COMPUTE_CAP
     parts = job.parts()
     spent = sum(part.units for part in parts if part.required)
     if spent > cap:
         raise ComputeTooLarge(job.refusal(spent, cap))
-    allowed = {part.name for part in parts if part.required}
+    allowed = {part.name: part.units for part in parts if part.required}
     for part in parts:
-        if not part.required and spent + part.units <= cap:
+        if not part.required and not part.stops_itself and spent + part.units <= cap:
             spent += part.units
-            allowed.add(part.name)
+            allowed[part.name] = part.units
+    searches = [part for part in parts if part.stops_itself]
+    for part in searches:
+        budget = min(part.units, (cap - spent) // len(searches))
+        if budget > 0:
+            allowed[part.name] = budget
     return allowed
 
 

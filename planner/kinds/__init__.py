@@ -23,13 +23,16 @@ _KINDS: dict[str, Kind] = {}
 class Part:
     """One engine call a page makes, priced before any of it runs.
 
-    ``required`` parts make the page; optional ones (a sizing search, a mean
-    time) are left out, with a note, when the request's budget cannot cover them.
+    ``required`` parts make the page; optional ones (a mean time) are left out,
+    with a note, when the request's budget cannot cover them. A search that
+    ``stops_itself`` (the engine's capacity search takes a ``cap``) runs within
+    whatever budget is left, and ``units`` is only its bound.
     """
 
     name: str
     units: int
     required: bool = True
+    stops_itself: bool = False
 
 
 class Kind:

@@ -64,3 +64,32 @@ def test_changes_are_merged_by_the_service_and_described(scenario):
 
 def test_part_defaults_to_required():
     assert Part("outlook", 10).required
+
+
+def test_searches_share_what_is_left_and_the_total_stays_within_the_cap(owner, settings):
+    from planner.kinds import get_kind
+    from planner.kinds.stock_plan.params import CountLaw, StockPlanParams
+    from planner.models import Scenario
+    from planner.reading import _allowed
+
+    params = StockPlanParams(
+        start=100,
+        horizon=365,
+        high=200,
+        below="lost",
+        step_method="net",
+        arrivals=CountLaw("poisson", mean=40),
+        demand=CountLaw("poisson", mean=40),
+    )
+    job = get_kind("stock_plan").prepare(params, 0.01, 0.05)
+    search = next(part for part in job.parts() if part.name == "smallest_capacity")
+    assert search.units > settings.PLANNER_COMPUTE_CAP  # its bound alone would not fit
+    allowed = _allowed(job)
+    assert sum(allowed.values()) <= settings.PLANNER_COMPUTE_CAP
+    assert 0 < allowed["smallest_capacity"] < search.units
+    scenario = Scenario(owner=owner, kind="stock_plan", parameters=params.to_json(), stockout_target=0.01)
+    answer = scenario_reading(scenario=scenario).result.capacity_answer
+    # The search settles within its share, with the same answer as the engine's search under its own cap.
+    assert answer.value is not None
+    walk = params.walk()
+    assert walk.smallest_capacity(365, 0.05) == answer.value

@@ -155,10 +155,11 @@ class StockJob:
             Part("risk_by_start", self._work("risk_by_start").units),
         ]
         if self.params.high is not None:
-            parts.append(Part("smallest_capacity", self._work("smallest_capacity").units, required=False))
+            search = self._work("smallest_capacity").units
+            parts.append(Part("smallest_capacity", search, required=False, stops_itself=True))
             if self.params.above == "spill":
                 # Only run when the stock-out target is out of reach: the capacity that would meet it.
-                parts.append(Part("capacity_for_stockout", self._work("smallest_capacity").units, required=False))
+                parts.append(Part("capacity_for_stockout", search, required=False, stops_itself=True))
         parts.append(Part("mean_time", self._work("mean_time").units, required=False))
         return parts
 
@@ -188,8 +189,8 @@ class StockJob:
         risk = float(self.walk.outlook(self.params.horizon).stockout[-1])
         return risk, periods(self.params.horizon, self.params.period)
 
-    def run(self, allowed: set[str]) -> StockResult:
-        """Every figure of the page; optional parts not in ``allowed`` are left out with a note."""
+    def run(self, allowed: dict[str, int]) -> StockResult:
+        """Every figure of the page; optional parts not in ``allowed`` (name -> budget) are left out with a note."""
         params, walk, horizon = self.params, self.walk, self.params.horizon
         outlook = walk.outlook(horizon)
         start_risk = walk.risk_by_start(horizon)
@@ -197,7 +198,7 @@ class StockJob:
         capacity_answer = both_answer = None
         if params.high is not None:
             if "smallest_capacity" in allowed:
-                capacity_answer = self._capacity_answer()
+                capacity_answer = self._capacity_answer(allowed["smallest_capacity"])
             else:
                 left_out.append("the smallest capacity for the overflow target (too large a search for one request)")
             both_answer = self._start_answer(start_risk, both=True)
@@ -214,7 +215,7 @@ class StockJob:
             laws=self.laws,
             outlook=outlook,
             start_risk=start_risk,
-            start_answer=self._start_answer(start_risk, needed="capacity_for_stockout" in allowed),
+            start_answer=self._start_answer(start_risk, budget=allowed.get("capacity_for_stockout", 0)),
             capacity_answer=capacity_answer,
             both_answer=both_answer,
             mean_periods_to_stockout=mean_time,
@@ -225,10 +226,10 @@ class StockJob:
             left_out=tuple(left_out),
         )
 
-    def _start_answer(self, risk: wm.StartRisk, *, both: bool = False, needed: bool = False) -> SizingAnswer:
+    def _start_answer(self, risk: wm.StartRisk, *, both: bool = False, budget: int = 0) -> SizingAnswer:
         """Smallest start stock meeting the stock-out target (and, with ``both``, the overflow target).
 
-        When none does and ``needed`` is set, a capacity search says what capacity would meet it.
+        When none does and a ``budget`` is given, a capacity search says what capacity would meet it.
         """
         overflow_target = self.overflow_target if both else None
         value = risk.smallest_meeting(self.stockout_target, overflow_target)
@@ -246,7 +247,7 @@ class StockJob:
             advice = (
                 f"No start stock from {low} to {top} units meets the stock-out target over "
                 f"{periods(self.params.horizon, self.params.period)}. "
-                + (self._capacity_needed() if needed else "")
+                + (self._capacity_needed(budget) if budget else "")
                 + ("Raise the capacity, " if self.params.high is not None else "")
                 + "schedule larger or more frequent deliveries, or shorten the horizon."
             )
@@ -258,9 +259,8 @@ class StockJob:
             advice=advice,
         )
 
-    def _capacity_needed(self) -> str:
+    def _capacity_needed(self, budget: int) -> str:
         """'With the start stock at 45 units, a capacity of 120 units would meet it. ' (or why none would)."""
-        budget = self._work("smallest_capacity").units
         try:
             # Overflow target 1 (always met): the smallest capacity whose spill-over keeps enough stock.
             capacity = self.walk.smallest_capacity(self.params.horizon, 1.0, self.stockout_target, cap=budget)
@@ -271,9 +271,8 @@ class StockJob:
             return f"With the start stock at {start}, no larger capacity would meet it either. "
         return f"With the start stock at {start}, a capacity of {units(capacity)} would meet it. "
 
-    def _capacity_answer(self) -> SizingAnswer:
-        """Smallest capacity meeting the overflow target alone (a costed search in the engine)."""
-        budget = self._work("smallest_capacity").units
+    def _capacity_answer(self, budget: int) -> SizingAnswer:
+        """Smallest capacity meeting the overflow target alone (a search the engine stops at ``budget``)."""
         try:
             value = self.walk.smallest_capacity(self.params.horizon, self.overflow_target, cap=budget)
         except wm.ComputeTooLarge as exc:

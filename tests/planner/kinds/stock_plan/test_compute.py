@@ -29,7 +29,7 @@ TARGETS = Targets(stockout=0.05, overflow=0.05)
 def run_outlook(*, params, targets):
     """Every part of the page, as the read service runs it when the budget allows all of them."""
     job = StockJob(params, targets.stockout, targets.overflow)
-    return job.run({part.name for part in job.parts()})
+    return job.run({part.name: part.units for part in job.parts()})
 
 
 def reference_chain(laws, *, start, low, high, below, above, horizon):
@@ -255,7 +255,7 @@ def test_optional_parts_are_left_out_with_a_note():
         start=4, horizon=12, low=0, high=8, below="lost", above="spill", step_method="nearest", up=0.3, down=0.4
     )
     job = StockJob(params, 0.05, 0.05)
-    result = job.run({part.name for part in job.parts() if part.required})
+    result = job.run({part.name: part.units for part in job.parts() if part.required})
     assert result.capacity_answer is None and result.mean_periods_to_stockout is None
     assert len(result.left_out) == 2 and "smallest capacity" in result.left_out[0]
 
