@@ -56,8 +56,11 @@ def _allowed(job) -> dict[str, int]:
             spent += part.units
             allowed[part.name] = part.units
     searches = [part for part in parts if part.stops_itself]
+    # Searches are priced by their bound and stop themselves at their budget; they share at most a
+    # quarter of the cap, since a probe's price is only the engine's estimate.
+    share = min(cap - spent, cap // 4)
     for part in searches:
-        budget = min(part.units, (cap - spent) // len(searches))
+        budget = min(part.units, share // len(searches))
         if budget > 0:
             allowed[part.name] = budget
     return allowed

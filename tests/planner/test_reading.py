@@ -74,7 +74,7 @@ def test_searches_share_what_is_left_and_the_total_stays_within_the_cap(owner, s
 
     params = StockPlanParams(
         start=100,
-        horizon=365,
+        horizon=120,
         high=200,
         below="lost",
         step_method="net",
@@ -92,4 +92,4 @@ def test_searches_share_what_is_left_and_the_total_stays_within_the_cap(owner, s
     # The search settles within its share, with the same answer as the engine's search under its own cap.
     assert answer.value is not None
     walk = params.walk()
-    assert walk.smallest_capacity(365, 0.05) == answer.value
+    assert walk.smallest_capacity(120, 0.05) == answer.value

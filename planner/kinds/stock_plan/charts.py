@@ -150,9 +150,6 @@ def start_chart(result: StockResult) -> dict:
 def horizon_chart(result: StockResult) -> dict:
     """Stock at the horizon: exact (plans still counted) against the normal approximation."""
     final = result.outlook.final
-    normal = result.normal_final
-    # The normal curve is shown over the levels the exact plan can hold, where the two can be compared.
-    inside = (normal.levels >= final.levels[0]) & (normal.levels <= final.levels[-1])
     name = period_name(result.period)
     fig = {
         "data": [
@@ -163,14 +160,6 @@ def horizon_chart(result: StockResult) -> dict:
                 "name": "exact",
                 "marker": {"color": OVERFLOW, "opacity": 0.85},
             },
-            line(
-                normal.levels[inside],
-                normal.probs[inside],
-                "normal approximation (no floor or capacity)",
-                NORMAL,
-                width=2,
-                dash="dash",
-            ),
         ],
         "layout": layout(
             f"Stock on {name} {result.horizon}",
@@ -182,10 +171,15 @@ def horizon_chart(result: StockResult) -> dict:
         ),
     }
     fig["layout"].update(bargap=0.05, hovermode="closest")
+    normal = result.normal_final
+    if normal is not None:
+        # The normal curve is shown over the levels the exact plan can hold, where the two can be compared.
+        inside = (normal.levels >= final.levels[0]) & (normal.levels <= final.levels[-1])
+        label = "normal approximation (no floor or capacity)"
+        fig["data"].append(line(normal.levels[inside], normal.probs[inside], label, NORMAL, width=2, dash="dash"))
     mode = int(final.levels[np.argmax(final.probs)]) if final.probs.size and final.probs.max() > 0 else None
-    summary = (
-        f"On {name} {result.horizon} the most likely stock is {units(mode)}; the normal approximation "
-        "is drawn beside the exact figures for comparison."
+    summary = f"On {name} {result.horizon} the most likely stock is {units(mode)}" + (
+        "; the normal approximation is drawn beside the exact figures for comparison." if normal is not None else "."
     )
     return _chart(fig, summary, "stock-by-period")
 

@@ -9,6 +9,7 @@ download always matches what is on screen.
 
 from __future__ import annotations
 
+import contextlib
 import math
 from dataclasses import dataclass, field
 
@@ -22,6 +23,9 @@ from planner.kinds.stock_plan.words import ABOVE_SHORT, BELOW_SHORT
 
 # Largest stock-by-period table a request keeps (levels x periods floats; 4e6 cells = 32 MB).
 MAX_LEVEL_CELLS = 4_000_000
+# Price of the normal comparison per level it covers, in work units: measured about 1 microsecond a level
+# (log_ndtr on both tails), at the roughly 1e9 units a second the engine's sweeps run here.
+NORMAL_UNITS_PER_LEVEL = 1_000
 
 
 @dataclass(frozen=True)
@@ -47,7 +51,7 @@ class StockResult:
     capacity_answer: SizingAnswer | None  # None without a capacity
     both_answer: SizingAnswer | None  # smallest start meeting both targets at this capacity
     mean_periods_to_stockout: float | None  # None when left out of this request
-    normal_final: wm.LevelDistribution
+    normal_final: wm.LevelDistribution | None  # None when left out (a very wide free-walk law)
     normal_stockout: np.ndarray
     left_out: tuple[str, ...] = field(default=())  # notes on optional figures this request could not afford
 
@@ -161,7 +165,13 @@ class StockJob:
                 # Only run when the stock-out target is out of reach: the capacity that would meet it.
                 parts.append(Part("capacity_for_stockout", search, required=False, stops_itself=True))
         parts.append(Part("mean_time", self._work("mean_time").units, required=False))
+        parts.append(Part("normal_levels", self._normal_levels() * NORMAL_UNITS_PER_LEVEL, required=False))
         return parts
+
+    def _normal_levels(self) -> int:
+        """Levels the normal comparison covers: every level the walk could reach with no floor or capacity."""
+        cycles, rest = divmod(self.params.horizon, len(self.laws))
+        return 1 + sum((cycles + (index < rest)) * (law.highest - law.lowest) for index, law in enumerate(self.laws))
 
     def refusal(self, units: int, cap: int) -> str:
         """Why the page is refused, in the analyst's words, naming what to shorten."""
@@ -199,9 +209,15 @@ class StockJob:
         if params.high is not None:
             if "smallest_capacity" in allowed:
                 capacity_answer = self._capacity_answer(allowed["smallest_capacity"])
-            else:
+            if capacity_answer is None:
                 left_out.append("the smallest capacity for the overflow target (too large a search for one request)")
             both_answer = self._start_answer(start_risk, both=True)
+        normal_final = None
+        if "normal_levels" in allowed:
+            with contextlib.suppress(ValueError):  # wider than the engine's own limit for this comparison
+                normal_final = wm.normal_level_distribution(list(self.laws), steps=horizon, start=params.start)
+        if normal_final is None:
+            left_out.append(f"the normal approximation of the stock on {period_name(params.period)} {horizon}")
         mean_time = None
         if "mean_time" in allowed:
             mean_time = walk.mean_periods_to_stockout()
@@ -219,7 +235,7 @@ class StockJob:
             capacity_answer=capacity_answer,
             both_answer=both_answer,
             mean_periods_to_stockout=mean_time,
-            normal_final=wm.normal_level_distribution(list(self.laws), steps=horizon, start=params.start),
+            normal_final=normal_final,
             normal_stockout=np.asarray(
                 wm.normal_stockout_curve(list(self.laws), start=params.start, low=params.low, horizon=horizon)
             ),
@@ -271,12 +287,12 @@ class StockJob:
             return f"With the start stock at {start}, no larger capacity would meet it either. "
         return f"With the start stock at {start}, a capacity of {units(capacity)} would meet it. "
 
-    def _capacity_answer(self, budget: int) -> SizingAnswer:
-        """Smallest capacity meeting the overflow target alone (a search the engine stops at ``budget``)."""
+    def _capacity_answer(self, budget: int) -> SizingAnswer | None:
+        """Smallest capacity meeting the overflow target alone; None when the search does not settle in ``budget``."""
         try:
             value = self.walk.smallest_capacity(self.params.horizon, self.overflow_target, cap=budget)
-        except wm.ComputeTooLarge as exc:
-            return SizingAnswer(value=None, target=self.overflow_target, advice=f"Not settled here: {exc}.")
+        except wm.ComputeTooLarge:
+            return None
         if value is not None:
             return SizingAnswer(value=value, target=self.overflow_target)
         reach = self.params.start + self.params.horizon * self.walk.max_up

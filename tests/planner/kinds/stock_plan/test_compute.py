@@ -257,7 +257,8 @@ def test_optional_parts_are_left_out_with_a_note():
     job = StockJob(params, 0.05, 0.05)
     result = job.run({part.name: part.units for part in job.parts() if part.required})
     assert result.capacity_answer is None and result.mean_periods_to_stockout is None
-    assert len(result.left_out) == 2 and "smallest capacity" in result.left_out[0]
+    assert result.normal_final is None
+    assert len(result.left_out) == 3 and "smallest capacity" in result.left_out[0]
 
 
 def test_unmet_stockout_target_says_what_capacity_would_meet_it():
