@@ -317,12 +317,18 @@ def absorption_curve(chain: BirthDeath, start: int, times: np.ndarray) -> Passag
       previous time, so R never falls;
     * not-reached side: N(t) = N(t - dt) f, a product of factors <= 1, so N never rises.
 
-    While R <= 1/2 the curve reports R (and 1 - R, at least 1/2, as not reached); from the first
-    time N drops below 1/2 it reports N (and 1 - N). The seam is explicit: if rounding lets R pass
-    1/2 while N is still at least 1/2, N restarts there as 1 - R, which is exact (Sterbenz: R lies
-    in [1/2, 1]), so both reported sides stay monotone across the seam and never leave [0, 1].
-    Each small side keeps its relative accuracy (about (steps + gaps) x 1e-16) down to about
-    1e-290; nothing is clipped.
+    Reported: (R, 1 - R) while R <= 1/2 and N >= 1/2; from the first time either passes 1/2,
+    (1 - N, N) for good. The seam is handled explicitly, so both reported sides stay monotone
+    across it with no tolerance:
+
+    * N < 1/2 there: the reported 1 - N rounds to at least 1/2, so to at least every R reported
+      before (each <= 1/2), and N is below every 1 - R reported before (each >= 1/2);
+    * only R > 1/2 there (the two sides disagree by rounding): N restarts as 1 - R, exact by
+      Sterbenz's lemma since R lies in (1/2, 1], so the pair reported is exactly (R, 1 - R).
+
+    The bounds [0, 1] hold by construction too (R <= 1/2 while reported, 0 <= N <= 1); no reported
+    value is clipped. Each small side keeps its relative accuracy, about (steps + times) x 1e-16,
+    down to about 1e-290.
     """
     order = np.argsort(times, kind="stable")
     reached = np.zeros(times.size)

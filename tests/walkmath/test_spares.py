@@ -242,3 +242,7 @@ def test_bad_mission_times_name_the_parameter():
         pool.shortage_probability(1e9)  # gamma t beyond the uniformization cap
     with pytest.raises(ValueError, match=r"mission_times\[0\]"):
         pool.shortage_curve([math.nan])
+    with pytest.raises(ValueError, match="mission_time must be a finite number from 0.0 to"):
+        pool.no_shortage_probability(math.inf)
+    with pytest.raises(ValueError, match=r"mission_times\[1\]"):
+        pool.no_shortage_curve([1.0, -2.0])
