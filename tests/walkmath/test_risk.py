@@ -54,7 +54,8 @@ def test_targets_out_of_range_name_the_field():
 
 
 def test_mean_exit_time_matches_feller_gamblers_ruin_duration():
-    # Feller vol. 1, XIV.3: p = 0.45, z = 9, a = 10 -> expected duration 11.00562 (published value)
+    # p = 0.45, z = 9, a = 10 -> expected duration 11.00562, computed from the closed form (Feller XIV (3.5));
+    # not a printed value: Feller vol. 1, ch. XIV, table 1 gives this row rounded to 11 (from memory)
     walk = wm.BandedWalk(wm.StepLaw.nearest(0.45, 0.55), start=9, low=1, high=9, below="stop", above="stop")
     assert walk.mean_periods_to_exit() == pytest.approx(11.00562, abs=5e-6)  # closed-form fast path
     assert risk._mean_time(walk, walk.high, ends_above=True) == pytest.approx(11.00562, abs=5e-6)  # banded solve

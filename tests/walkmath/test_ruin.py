@@ -1,4 +1,4 @@
-"""Gambler's-ruin closed forms against Feller's published values and the banded engine."""
+"""Gambler's-ruin closed forms against Feller's table, values computed from his closed forms and the banded engine."""
 
 import pytest
 
@@ -7,8 +7,10 @@ from walkmath import risk
 
 
 def test_feller_table_values():
-    # Feller vol. 1, ch. XIV, table 1: p = 0.45, z = 9, a = 10 -> ruin 0.210, duration 11.0
-    # (more digits: 0.2100562 and 11.00562, as quoted in the project's issue from the same table)
+    # Feller vol. 1, ch. XIV, table 1: p = 0.45, z = 9, a = 10 -> ruin 0.210, duration 11 (printed to
+    # that precision; from memory). The seven-digit values are not printed there: 0.2100562 and
+    # 11.00562 are computed from the closed forms (Feller XIV (2.4) for the ruin, (3.5) for the duration;
+    # equation numbers from memory), exactly 0.21005616... and 11.0056164... in rational arithmetic
     assert wm.ruin_probability(0.45, 0.55, 9, 10) == pytest.approx(0.2100562, abs=5e-8)
     assert wm.expected_duration(0.45, 0.55, 9, 10) == pytest.approx(11.00562, abs=5e-6)
 
