@@ -159,7 +159,7 @@ def _eliminate(lower: int, upper: int, rows: np.ndarray, ending: np.ndarray, spe
         leave_k = carried[k, -1] + row.sum()  # = 1 - Q[k, k], as a sum of non-negative terms
         if leave_k == 0.0 or k in stuck:
             stuck.add(k)  # never ends from here; whoever can step here inherits that
-            stuck.update(first_row + np.flatnonzero(column).tolist())
+            stuck.update((first_row + np.flatnonzero(column)).tolist())
             row[:] = 0.0
             continue
         leave[k] = leave_k
