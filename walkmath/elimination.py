@@ -64,11 +64,15 @@ def _reduced_widths(laws, size: int) -> tuple[int, int, int]:
     return lower, upper, products
 
 
-def band_work(laws, size: int) -> Work:
-    """Priced work of ``solve_band``: levels x bandwidth^2 for the elimination, plus the cycle products."""
+def band_work(laws, size: int, knob: str = _KNOB) -> Work:
+    """Priced work of ``solve_band``: levels x bandwidth^2 for the elimination, plus the cycle products.
+
+    ``jumps`` holds bandwidth^2 (the elimination's multiply-adds per level); ``dense`` the
+    cycle products and one fixed charge per level for the Python step of each pivot.
+    """
     lower, upper, products = _reduced_widths(laws, size)
     width = lower + upper + 1
-    return Work("mean_time", size, 1, width * width, dense=products + size * PIVOT_OVERHEAD, knob=_KNOB)
+    return Work("mean_time", size, 1, width * width, dense=products + size * PIVOT_OVERHEAD, knob=knob)
 
 
 def fits_in_memory(laws, size: int) -> bool:
@@ -155,7 +159,7 @@ def _eliminate(lower: int, upper: int, rows: np.ndarray, ending: np.ndarray, spe
         first_col, first_row = max(0, k - lower), max(0, k - upper)
         at_k = k * pitch + lower
         row = flat[at_k + first_col : at_k + k]  # Q[k, j], j < k
-        column = flat[first_row * pitch + k + lower : at_k + k : pitch]  # Q[i, k], i < k
+        column = flat[first_row * pitch + k + lower : at_k + k : max(pitch, 1)]  # Q[i, k], i < k
         leave_k = carried[k, -1] + row.sum()  # = 1 - Q[k, k], as a sum of non-negative terms
         if leave_k == 0.0 or k in stuck:
             stuck.add(k)  # never ends from here; whoever can step here inherits that

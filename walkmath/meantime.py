@@ -59,6 +59,7 @@ if TYPE_CHECKING:
 # Relative size of the cut-off tail accepted as exact for a walk without capacity.
 TRUNCATION_TOLERANCE = 1e-12
 _KNOB = "narrow the band (capacity) or coarsen the units"
+_FREE_KNOB = "start nearer to low, give the walk a capacity, or coarsen the units"
 
 
 class MeanTime(float):
@@ -71,8 +72,6 @@ class MeanTime(float):
             raise ValueError(f"a mean time must be a number at least 0; got {value!r}")
         if math.isinf(value) and at_least:
             raise ValueError("an infinite mean time cannot be a lower bound")
-        if not math.isinf(value) and value > sys.float_info.max:
-            value, at_least = sys.float_info.max, True
         self = super().__new__(cls, value)
         self.at_least = bool(at_least)
         return self
@@ -125,7 +124,7 @@ def work(walk: BandedWalk) -> Work:
     drift = _drift(walk.laws)
     if drift >= 0:
         return Work("mean_time", 0, 1, 0, knob=_KNOB)  # answered without any solve
-    return band_work(walk.laws, _truncation(walk, drift)[0])
+    return band_work(walk.laws, _truncation(walk, drift)[0], knob=_FREE_KNOB)
 
 
 def _closed_form(walk: BandedWalk) -> bool:
@@ -245,6 +244,8 @@ def _truncation(walk: BandedWalk, drift: float):
     if walk.max_up == 0:
         return minimum, lambda size: 0.0  # the walk never rises above its start
     theta, partial = _lundberg(laws)
+    if not theta > 0:  # no usable exponent (a drift lost in rounding): the tallest affordable band, flagged
+        return _largest_affordable(laws, minimum, 2 * minimum + 10**12), lambda size: math.inf
     means = np.cumsum([law.mean - drift for law in laws])
     spread = float(max(means.max(), 0.0) - min(means.min(), 0.0))  # Wald's identity within a cycle
     rate = -drift
@@ -270,7 +271,7 @@ def _truncation(walk: BandedWalk, drift: float):
 
 def _largest_affordable(laws, smallest: int, largest: int) -> int:
     """Largest band size in smallest..largest within the cost cap (``smallest`` is checked, and may raise)."""
-    band_work(laws, smallest).check()
+    band_work(laws, smallest, knob=_FREE_KNOB).check()
 
     def affordable(size: int) -> bool:
         return band_work(laws, size).units <= WORK_CAP and fits_in_memory(laws, size)
@@ -303,7 +304,7 @@ def _lundberg(laws) -> tuple[float, float]:
 
     mean = math.fsum(law.mean for law in laws)
     spread = max(math.fsum(law.variance for law in laws), 1e-300)
-    guess = 2.0 * -mean / spread  # the diffusion value of theta*
+    guess = max(2.0 * -mean / spread, 1e-300)  # the diffusion value of theta*
     high = guess
     for _ in range(2100):
         if partial_logs(high)[-1] > 0:

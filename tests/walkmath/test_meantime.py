@@ -280,3 +280,18 @@ def test_mean_time_is_a_float_that_keeps_its_flag():
     assert not wm.MeanTime(3.0).at_least
     with pytest.raises(ValueError, match="mean time"):
         wm.MeanTime(-1.0)
+
+
+def test_the_two_ways_of_ending_add_up_and_match_the_exact_walk():
+    # P(stock-out first) + P(overflow first) = 1 on a band where every path ends; the stock-out side against
+    # the exact rational walk run 140 periods, when under 1e-12 of its mass is left (tests/walkmath/exact.py)
+    from tests.walkmath.exact import banded_outlook
+
+    cycle = [wm.StepLaw.from_pmf({-2: 0.25, 0: 0.25, 1: 0.5}), wm.StepLaw.from_pmf({-1: 0.5, 2: 0.5})]
+    solution = elimination.solve_band(cycle, 5, "stop", split_ends=True)
+    assert not solution.stuck.any()
+    assert solution.ended.sum(axis=1) == pytest.approx([1.0] * 5, rel=1e-14)
+    pmf = [{int(s): Fraction(float(p)) for s, p in zip(law.steps, law.probs, strict=True)} for law in cycle]
+    exact = banded_outlook(pmf, 2, 0, 4, "stop", "stop", 140)
+    assert exact["alive"][-1] < Fraction(1, 10**12)  # so the exact chance lies within 1e-12 above this one
+    assert solution.ended[2, 0] == pytest.approx(float(exact["stockout"][-1]), rel=1e-10)
