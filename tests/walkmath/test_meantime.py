@@ -7,6 +7,8 @@ from fractions import Fraction
 
 import mpmath
 import pytest
+from hypothesis import assume, given, settings
+from hypothesis import strategies as st
 
 import walkmath as wm
 from walkmath import elimination, meantime
@@ -74,7 +76,7 @@ def test_every_rule_matches_a_high_precision_solve(law):
     [(SURGE, 25, 25), (SURGE, 25, 10), (SURGE, 30, 30), (SURGE, 30, 0), (RISING, 40, 20), (RISING, 60, 60)],
 )
 def test_rare_stockouts_keep_their_digits(law, high, start):
-    # Means from 6e12 to 1e25 periods (0..25: 9.532e12; 0..30: 2.316e15, both from this 80-digit solve).
+    # Means from 2e12 to 1.1e18 periods (0..25: 9.532e12; 0..30: 2.316e15 from the top, both from this 80-digit solve).
     walk = wm.BandedWalk(law, start=start, low=0, high=high, above="spill")
     exact = reference(law, 0, high, start, overflow_ends=False, above="spill")
     assert exact > 1e12
@@ -295,3 +297,20 @@ def test_the_two_ways_of_ending_add_up_and_match_the_exact_walk():
     exact = banded_outlook(pmf, 2, 0, 4, "stop", "stop", 140)
     assert exact["alive"][-1] < Fraction(1, 10**12)  # so the exact chance lies within 1e-12 above this one
     assert solution.ended[2, 0] == pytest.approx(float(exact["stockout"][-1]), rel=1e-10)
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    weights=st.lists(st.integers(min_value=0, max_value=9), min_size=2, max_size=7),
+    lowest=st.integers(min_value=-4, max_value=0),
+    size=st.integers(min_value=1, max_value=7),
+    above=st.sampled_from(ABOVE_RULES),
+)
+def test_elimination_equals_exact_rationals_for_any_small_law(weights, lowest, size, above):
+    # hypothesis draws laws of up to 7 jumps; reference: Gauss-Jordan in exact rationals (no shared code)
+    assume(sum(weights) > 0 and any(weights[: max(0, -lowest)]))  # some down-step, so a stock-out can happen
+    law = wm.StepLaw.from_pmf({lowest + i: w / sum(weights) for i, w in enumerate(weights) if w})
+    solution = elimination.solve_band([law], size, above)
+    exact = rational_mean_times(law, size, above)
+    for start in range(size):
+        assert float(solution.times[start]) == pytest.approx(float(exact[start]), rel=1e-12)
