@@ -32,12 +32,16 @@ from scipy.linalg import lapack
 from walkmath.cost import ComputeTooLarge, Work
 from walkmath.operator import Rules, substochastic_band
 
-# Fixed cost of one pivot and one back-substitution step (a dozen numpy calls,
-# about 20 microseconds), in the cost model's units (see walkmath.cost).
-PIVOT_OVERHEAD = 100_000
+# Fixed cost of one pivot (a dozen numpy calls, about 12 microseconds), in the
+# cost model's units (see walkmath.cost); a narrow pivot on Python floats costs
+# about 4 microseconds plus 0.3 per multiply-add (more on a busy machine or a large band).
+PIVOT_OVERHEAD = 60_000
+NARROW_BASE, NARROW_PER_UPDATE = 20_000, 1_500
 # Largest band the elimination holds in memory (float64 entries, about 160 MB),
 # with room for the product of a cycle and the operator's own arrays.
 BAND_ENTRIES_CAP = 20_000_000
+# Pivots with at most this many multiply-adds run on Python floats (faster than a dozen numpy calls).
+NARROW_PIVOT = 24
 _KNOB = "narrow the band (capacity), coarsen the units or shorten the cycle of laws"
 
 
@@ -68,11 +72,18 @@ def band_work(laws, size: int, knob: str = _KNOB) -> Work:
     """Priced work of ``solve_band``: levels x bandwidth^2 for the elimination, plus the cycle products.
 
     ``jumps`` holds bandwidth^2 (the elimination's multiply-adds per level); ``dense`` the
-    cycle products and one fixed charge per level for the Python step of each pivot.
+    cycle products and a charge per level for the Python step of each pivot (measured).
     """
     lower, upper, products = _reduced_widths(laws, size)
     width = lower + upper + 1
-    return Work("mean_time", size, 1, width * width, dense=products + size * PIVOT_OVERHEAD, knob=knob)
+    updates = _updates(lower, upper, ways=1)
+    per_pivot = NARROW_BASE + NARROW_PER_UPDATE * updates if updates <= NARROW_PIVOT else PIVOT_OVERHEAD
+    return Work("mean_time", size, 1, width * width, dense=products + size * per_pivot, knob=knob)
+
+
+def _updates(lower: int, upper: int, ways: int) -> int:
+    """Multiply-adds of one pivot: the rows above it times (its row below the diagonal + the carried values)."""
+    return upper * (lower + ways + 2)
 
 
 def fits_in_memory(laws, size: int) -> bool:
@@ -146,10 +157,27 @@ def _product(lower_a, upper_a, rows_a, lower_b, upper_b, rows_b):
 
 def _eliminate(lower: int, upper: int, rows: np.ndarray, ending: np.ndarray, spent: np.ndarray) -> BandSolution:
     """Remove levels top-down, then back-substitute (module notes); ``rows`` is overwritten."""
-    size, width = rows.shape
+    size = rows.shape[0]
     ways = ending.shape[1]
     # carried along per level: expected periods, chance of ending each way, chance of ending at all
     carried = np.column_stack([spent, ending, ending.sum(axis=1)])
+    narrow = _updates(lower, upper, ways) <= NARROW_PIVOT
+    leave, stuck = (_pivots_in_python if narrow else _pivots)(lower, upper, rows, carried)
+    solved = _forward(lower, rows, leave, carried[:, :-1])
+    times, ended = solved[:, 0], solved[:, 1 : 1 + ways]
+    never = np.zeros(size, dtype=bool)
+    if stuck:
+        marker = np.zeros((size, 1))
+        marker[sorted(stuck), 0] = 1.0
+        never = _forward(lower, (rows > 0.0).astype(float), np.ones(size), marker)[:, 0] > 0.0
+        times[never] = np.inf
+        ended[never] = 0.0
+    return BandSolution(times=times, ended=ended, stuck=never)
+
+
+def _pivots(lower: int, upper: int, rows: np.ndarray, carried: np.ndarray) -> tuple[np.ndarray, set]:
+    """The elimination, one level at a time with numpy on the band; returns leave chances and stuck levels."""
+    size, width = rows.shape
     flat = rows.reshape(-1)
     pitch = width - 1  # flat index of (i, j) is i * pitch + j + lower
     item = flat.itemsize
@@ -178,16 +206,46 @@ def _eliminate(lower: int, upper: int, rows: np.ndarray, ending: np.ndarray, spe
             )
             block += np.multiply.outer(share, row)
         carried[first_row:k] += np.multiply.outer(share, carried[k])
-    solved = _forward(lower, rows, leave, carried[:, :-1])
-    times, ended = solved[:, 0], solved[:, 1 : 1 + ways]
-    never = np.zeros(size, dtype=bool)
-    if stuck:
-        marker = np.zeros((size, 1))
-        marker[sorted(stuck), 0] = 1.0
-        never = _forward(lower, (rows > 0.0).astype(float), np.ones(size), marker)[:, 0] > 0.0
-        times[never] = np.inf
-        ended[never] = 0.0
-    return BandSolution(times=times, ended=ended, stuck=never)
+    return leave, stuck
+
+
+def _pivots_in_python(lower: int, upper: int, rows: np.ndarray, carried: np.ndarray) -> tuple[np.ndarray, set]:
+    """The same elimination on Python floats, for narrow bands where numpy's per-call cost dominates.
+
+    Flat lists of floats only (no list per level), so the garbage collector has nothing to track.
+    """
+    size, width = rows.shape
+    pitch, kept = width - 1, carried.shape[1]
+    flat = rows.reshape(-1).tolist()
+    carry = carried.reshape(-1).tolist()
+    leave = [1.0] * size
+    stuck = set()
+    for k in range(size - 1, -1, -1):
+        first_col, first_row = max(0, k - lower), max(0, k - upper)
+        at_k = k * pitch + lower
+        row = flat[at_k + first_col : at_k + k]
+        carry_k = carry[k * kept : (k + 1) * kept]
+        leave_k = carry_k[-1] + sum(row)
+        if leave_k == 0.0 or k in stuck:
+            stuck.add(k)
+            stuck.update(i for i in range(first_row, k) if flat[i * pitch + k + lower] > 0.0)
+            flat[at_k + first_col : at_k + k] = [0.0] * len(row)
+            continue
+        leave[k] = leave_k
+        for i in range(first_row, k):
+            weight = flat[i * pitch + k + lower]
+            if weight == 0.0:
+                continue
+            share = weight / leave_k
+            base = i * pitch + lower + first_col
+            for offset, value in enumerate(row):
+                flat[base + offset] += share * value
+            base = i * kept
+            for offset, value in enumerate(carry_k):
+                carry[base + offset] += share * value
+    rows.reshape(-1)[:] = flat
+    carried.reshape(-1)[:] = carry
+    return np.array(leave), stuck
 
 
 def _forward(lower: int, rows: np.ndarray, leave: np.ndarray, values: np.ndarray) -> np.ndarray:
