@@ -50,7 +50,7 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 from walkmath import ruin
-from walkmath.cost import WORK_CAP, Work
+from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
 from walkmath.elimination import BandSolution, band_work, fits_in_memory, solve_band
 
 if TYPE_CHECKING:
@@ -124,7 +124,11 @@ def work(walk: BandedWalk) -> Work:
     drift = _drift(walk.laws)
     if drift >= 0:
         return Work("mean_time", 0, 1, 0, knob=_KNOB)  # answered without any solve
-    return band_work(walk.laws, _truncation(walk, drift)[0], knob=_FREE_KNOB)
+    try:
+        size = _truncation(walk, drift)[0]
+    except ComputeTooLarge:  # even the levels up to the start are over the cap: price them, the caller refuses
+        size = walk.start - walk.low + 1
+    return band_work(walk.laws, size, knob=_FREE_KNOB)
 
 
 def _closed_form(walk: BandedWalk) -> bool:
@@ -223,7 +227,8 @@ def _without_capacity(walk: BandedWalk) -> MeanTime:
     start = walk.start - walk.low
     if _closed_form(walk):
         law = walk.laws[0]
-        return _finite_or_more((start + 1) / (law.prob(-1) - law.prob(1)))  # exact difference of two floats
+        # the difference of the two floats is exact when they are within a factor 2 (Sterbenz)
+        return _finite_or_more((start + 1) / (law.prob(-1) - law.prob(1)))
     size, tail_bound = _truncation(walk, drift)
     solution = solve_band(walk.laws, size, "spill")
     answer = _answer(solution, start, overflow_must_not_end=False)
@@ -323,5 +328,7 @@ def _lundberg(laws) -> tuple[float, float]:
             low = middle
         else:
             high = middle
+    if partial_logs(low)[-1] > 0:
+        return 0.0, math.inf  # the cycle's value is rounding noise this close to 0: no exponent to use
     largest = float(max(partial_logs(low).max(), 0.0))
     return low, math.exp(largest)

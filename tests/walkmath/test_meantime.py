@@ -250,6 +250,11 @@ def test_requests_over_the_cap_are_refused_before_any_elimination(monkeypatch):
         walk.mean_periods_to_stockout()
     with pytest.raises(wm.ComputeTooLarge, match="mean_time"):
         walk.cost(1, "mean_time").check()
+    # without a capacity the levels up to the start must fit; the cost is priced, not raised, by walk.cost
+    far = wm.BandedWalk(wm.StepLaw.from_pmf({-1: 0.6, 0: 0.2, 2: 0.2}), start=10**9, low=0)
+    assert far.cost(1, "mean_time").levels == 10**9 + 1
+    with pytest.raises(wm.ComputeTooLarge, match="start nearer to low"):
+        far.mean_periods_to_stockout()
 
 
 @pytest.mark.parametrize(
