@@ -14,7 +14,8 @@ Every number below is a sum of non-negative terms; nothing is ever computed as
     pi_j = (up / down)^j, and E_s[T] = m_0 + ... + m_s (Karlin and Taylor, A
     First Course in Stochastic Processes, 2nd ed., ch. 4, birth and death
     processes; Feller vol. 1, ch. XIV, sec. 3). The geometric sums are added by
-    doubling, each step a sum of positive terms (O(log levels) work).
+    doubling in 40-digit decimals, each step a sum of positive terms (O(log
+    levels) work).
   - No capacity: the same sum over an unbounded band, (s + 1) / (down - up).
 * Any other law, or a cycle of laws: subtraction-free state reduction
   (Grassmann, Taksar and Heyman, Operations Research 33 (1985) 1107-1116) on the
@@ -43,8 +44,10 @@ Every number below is a sum of non-negative terms; nothing is ever computed as
 
 from __future__ import annotations
 
+import decimal
 import math
 import sys
+from decimal import Decimal
 from typing import TYPE_CHECKING
 
 import numpy as np
@@ -160,34 +163,32 @@ def _nearest_in_band(law, start: int, size: int, top_ends: bool, overflow_ends: 
 def held_top_stockout(up: float, down: float, levels: int, start: int) -> float:
     """E[periods to fall below level 0] from ``start`` on levels 0..levels-1, up-steps held at the top.
 
-    E = sum_{k <= start} m_k, m_k = (1 / down) sum_{i < levels - k} r^i, r = up / down, regrouped as
+    E = sum_{k <= s} m_k, m_k = (1 / down) sum_{i < levels - k} r^i, r = up / down, regrouped as
     [(s + 1) A(levels - s) + r^(levels - s) B(s)] / down with A(N) = sum_{j < N} r^j and
-    B(N) = sum_{j < N} (N - j) r^j; for r > 1 the sums run in 1 / r and the power r^(levels - 1)
-    is applied in logs (relative error below 1e-13 while the result is a finite float).
+    B(N) = sum_{j < N} (N - j) r^j, each added up by doubling (positive terms only). The work
+    runs in 40-digit decimals: rounding r to a float would cost N x 1e-16 relative on a tall
+    near-fair band, and the decimal exponent range holds r^N for any band a cost cap admits.
+    Returns inf when the mean exceeds the largest float.
     """
-    s = start
-    if up <= down:
-        ratio = up / down
-        tail = _geometric(ratio, levels - s)
-        head = _geometric(ratio, s)
-        return ((s + 1) * tail.plain + tail.power * head.falling) / down
-    # r > 1: E down = r^(levels - 1) [C'(s) + (s + 1) q^s A'(levels - s)], q = 1 / r, C'(N) = sum (j + 1) q^j
-    ratio = down / up
-    tail = _geometric(ratio, levels - s)
-    head = _geometric(ratio, s)
-    inner = head.rising + (s + 1) * head.power * tail.plain
-    log_r = math.log1p((up - down) / down)
-    log_value = (levels - 1) * log_r + math.log(inner) - math.log(down)
-    return math.exp(log_value) if log_value < math.log(sys.float_info.max) else math.inf
+    with decimal.localcontext() as context:
+        context.prec = 40
+        context.Emax, context.Emin = decimal.MAX_EMAX, decimal.MIN_EMIN
+        ratio = Decimal(up) / Decimal(down)
+        try:
+            tail, head = _geometric(ratio, levels - start), _geometric(ratio, start)
+            value = ((start + 1) * tail.plain + tail.power * head.falling) / Decimal(down)
+        except decimal.Overflow:
+            return math.inf
+    return float(value)  # inf beyond the largest float
 
 
 class _Sums:
-    """Sums over j < count of ratio^j: plain (1), falling (count - j), rising (j + 1); power = ratio^count."""
+    """Sums over j < count of ratio^j: plain (weight 1) and falling (weight count - j); power = ratio^count."""
 
-    __slots__ = ("count", "plain", "falling", "rising", "power")
+    __slots__ = ("count", "plain", "falling", "power")
 
-    def __init__(self, count, plain, falling, rising, power):
-        self.count, self.plain, self.falling, self.rising, self.power = count, plain, falling, rising, power
+    def __init__(self, count, plain, falling, power):
+        self.count, self.plain, self.falling, self.power = count, plain, falling, power
 
     def then(self, other: _Sums) -> _Sums:
         """The sums of this run of terms followed by ``other`` (every update adds positive terms)."""
@@ -195,15 +196,15 @@ class _Sums:
             self.count + other.count,
             self.plain + self.power * other.plain,
             other.count * self.plain + self.falling + self.power * other.falling,
-            self.rising + self.power * (self.count * other.plain + other.rising),
             self.power * other.power,
         )
 
 
-def _geometric(ratio: float, count: int) -> _Sums:
-    """``_Sums`` for 0 <= ratio <= 1 by binary doubling (about 2 log2(count) positive updates)."""
-    total = _Sums(0, 0.0, 0.0, 0.0, 1.0)
-    block = _Sums(1, 1.0, 1.0, 1.0, ratio)
+def _geometric(ratio: Decimal, count: int) -> _Sums:
+    """``_Sums`` by binary doubling (about 2 log2(count) positive updates)."""
+    zero, one = Decimal(0), Decimal(1)
+    total = _Sums(0, zero, zero, one)
+    block = _Sums(1, one, one, ratio)
     while count:
         if count & 1:
             total = total.then(block)

@@ -319,3 +319,17 @@ def test_elimination_equals_exact_rationals_for_any_small_law(weights, lowest, s
     exact = rational_mean_times(law, size, above)
     for start in range(size):
         assert float(solution.times[start]) == pytest.approx(float(exact[start]), rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    "up, down, levels, start",
+    [(0.2, 0.3, 10**9, 10**8), (0.3, 0.2, 1500, 700), (0.3, 0.3000001, 10**7, 5 * 10**6), (0.45, 0.05, 300, 0)],
+)
+def test_held_top_closed_form_on_tall_bands(up, down, levels, start):
+    # sum_{k <= s} m_k, m_k = (1 - r^(n - k)) / ((1 - r) down), r = up / down: the passage time from k to k - 1
+    # with the top held (first-step analysis; Karlin and Taylor, ch. 4, birth and death), summed in 60 digits
+    mpmath.mp.dps = 60
+    r, d, n, s = mpmath.mpf(up) / mpmath.mpf(down), mpmath.mpf(down), levels, start
+    exact = ((s + 1) - r ** (n - s) * (1 - r ** (s + 1)) / (1 - r)) / ((1 - r) * d)
+    walk = wm.BandedWalk(wm.StepLaw.nearest(up, down), start=start, low=0, high=levels - 1)
+    assert relative_error(walk.mean_periods_to_stockout(), exact) < 1e-12
