@@ -19,6 +19,7 @@ from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
 from walkmath.distribution import LevelDistribution, law_power, level_distribution
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
+from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.sizing import CapacityRisk
@@ -34,6 +35,7 @@ __all__ = [
     "ComputeTooLarge",
     "LevelDistribution",
     "LongOutlook",
+    "MeanTime",
     "MonteCarloOutlook",
     "Outlook",
     "SparesPool",

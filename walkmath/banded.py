@@ -292,9 +292,15 @@ class BandedWalk:
         return sizing.risk_by_capacity(self, horizon, capacities)
 
     def mean_periods_to_exit(self) -> float:
-        """E[first period with a stock-out or an overflow]; inf if not certain (banded linear solve)."""
+        """E[first period with a stock-out or an overflow] as a ``MeanTime``; inf if not certain.
+
+        Closed forms for nearest-neighbour laws, a subtraction-free elimination
+        otherwise (``walkmath.meantime``): relative accuracy for any finite
+        mean; ``at_least`` marks a proven lower bound where the cost cap stops
+        the computation short.
+        """
         return risk.mean_periods_to_exit(self, overflow_ends=True)
 
     def mean_periods_to_stockout(self) -> float:
-        """E[first period with a stock-out]; inf if not certain (banded linear solve)."""
+        """E[first period with a stock-out] as a ``MeanTime``; inf only if not certain or the mean is infinite."""
         return risk.mean_periods_to_exit(self, overflow_ends=False)

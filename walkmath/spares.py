@@ -4,18 +4,21 @@ The number of failed units is a birth–death chain on 0..units + spares (design
 with f failed, min(units, units + spares - f) operate and each fails at ``failure_rate`` (cold
 spares do not fail while waiting), and min(f, crews) repairs run at ``repair_rate`` each. A
 shortage is fewer than ``units`` operating, that is more than ``spares`` failed.
+
+Each probability is reported with its complement available (availability / unavailability,
+shortage / no shortage over a mission): the side at most 1/2 is summed from its own non-negative
+terms, the other is 1 minus it. Curves over mission times are monotone by construction.
 """
 
 from __future__ import annotations
 
-import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from walkmath import checks
-from walkmath.continuous import BirthDeath, time_within, times_within
+from walkmath.continuous import BirthDeath, PassageCurve, absorption_curve, time_within, times_within
 
 # Largest number of units, of spares and of crews; largest failure or repair rate (per unit time).
 POOL_CAP = 100_000
@@ -61,12 +64,17 @@ class SparesPool:
             object.__setattr__(self, name, value)
 
     def availability(self) -> float:
-        """Long-run P(no shortage) = P(failed <= spares), a sum of product-form terms."""
-        return math.fsum(self.chain.steady_state()[: self.spares + 1])
+        """Long-run P(no shortage) = P(failed <= spares), from the product-form steady state.
+
+        It and ``unavailability`` each come from their own side (a sum of non-negative terms) while
+        that side is at most 1/2; the other is its complement, so the two add up to 1.
+        """
+        return self.chain.steady_state_split(self.spares + 1)[0]
 
     def unavailability(self) -> float:
-        """Long-run P(shortage), summed over the shortage states (not 1 - availability)."""
-        return math.fsum(self.chain.steady_state()[self.spares + 1 :])
+        """Long-run P(shortage), summed over the shortage states while it is at most 1/2 (never
+        1 - availability then): relative accuracy about 1e-13 however small."""
+        return self.chain.steady_state_split(self.spares + 1)[1]
 
     def mean_time_to_shortage(self) -> float:
         """Expected time from all good to the first shortage (the pool's MTTF), by the passage recursion."""
@@ -75,16 +83,39 @@ class SparesPool:
     def shortage_probability(self, mission_time: float) -> float:
         """P(a shortage at some time in [0, mission_time]) starting with all good.
 
-        The absorbed mass of the stopped chain by uniformization: a sum of non-negative terms, so a
-        small risk keeps its relative accuracy (never 1 - survival).
+        By uniformization of the stopped chain (``absorption_curve``): the absorbed mass while it is
+        at most 1/2, else 1 - P(no shortage) with that side summed directly, so either small side
+        keeps its relative accuracy (never 1 - something near 1).
         """
-        mission_time = time_within("mission_time", mission_time, self.shortage_chain.longest_time)
-        return float(self.shortage_chain.transient_with_bound(0, mission_time).probs[-1])
+        return float(self._at(mission_time).reached[0])
+
+    def no_shortage_probability(self, mission_time: float) -> float:
+        """P(no shortage at any time in [0, mission_time]) starting with all good (mission reliability).
+
+        The complement of ``shortage_probability``, each from its own side (see there).
+        """
+        return float(self._at(mission_time).not_reached[0])
 
     def shortage_curve(self, mission_times: Sequence[float]) -> np.ndarray:
-        """``shortage_probability`` at each of ``mission_times``, in one uniformization sweep."""
-        mission_times = times_within("mission_times", mission_times, self.shortage_chain.longest_time)
-        return self.shortage_chain.transient_curve(0, mission_times)[:, -1]
+        """``shortage_probability`` at each of ``mission_times``: never falls as the time grows.
+
+        Monotone by construction (non-negative increments and factors <= 1, see
+        ``absorption_curve``): one uniformization sweep carried from each time to the next. Cost:
+        about gamma x the longest time, plus 100 to 250 updates of the spares + 2 levels per time.
+        """
+        return self._over(mission_times).reached
+
+    def no_shortage_curve(self, mission_times: Sequence[float]) -> np.ndarray:
+        """``no_shortage_probability`` at each of ``mission_times``: never rises as the time grows."""
+        return self._over(mission_times).not_reached
+
+    def _at(self, mission_time) -> PassageCurve:
+        time = time_within("mission_time", mission_time, self.shortage_chain.longest_time)
+        return absorption_curve(self.shortage_chain, 0, np.array([time]))
+
+    def _over(self, mission_times) -> PassageCurve:
+        times = times_within("mission_times", mission_times, self.shortage_chain.longest_time)
+        return absorption_curve(self.shortage_chain, 0, times)
 
 
 def _rate(name: str, value) -> float:

@@ -1,7 +1,8 @@
-"""Birth–death chains against published values, mpmath and linear solves."""
+"""Birth–death chains against closed forms in exact Fractions, mpmath and linear solves."""
 
 import math
 import re
+from fractions import Fraction
 
 import mpmath
 import numpy as np
@@ -15,9 +16,10 @@ from walkmath import continuous
 from walkmath.continuous import BirthDeath
 
 
-def erlang_b(channels: int, load: float) -> float:
-    # B(0) = 1, B(c) = A B(c-1) / (c + A B(c-1)) (common practice; the standard Erlang B recursion)
-    blocking = 1.0
+def erlang_b(channels: int, load):
+    # B(0) = 1, B(c) = A B(c-1) / (c + A B(c-1)) (common practice; the standard Erlang B recursion).
+    # Works on floats, Fractions and mpmath numbers alike.
+    blocking = load**0
     for c in range(1, channels + 1):
         blocking = load * blocking / (c + load * blocking)
     return blocking
@@ -36,28 +38,57 @@ def mm1k(arrival: float, service: float, capacity: int) -> BirthDeath:
 
 
 def test_erlang_b_five_channels_two_erlangs():
-    # 0.0367 for c = 5, A = 2 (published Erlang B tables); exact value 0.036697...
-    assert erlang_b(5, 2.0) == pytest.approx(0.0367, abs=5e-5)
+    # 0.0367 for c = 5, A = 2 (from memory); exactly 4/109 by the recursion in Fractions
+    exact = erlang_b(5, Fraction(2))
+    assert exact == Fraction(4, 109) and round(float(exact), 4) == 0.0367
     blocking = loss_system(5, 2.0).steady_state()[-1]
-    assert blocking == pytest.approx(erlang_b(5, 2.0), rel=1e-13)
-    # exact: (A^c / c!) / sum_k A^k / k! (Erlang's loss formula, common practice)
-    assert blocking == pytest.approx((32 / 120) / sum(2.0**k / math.factorial(k) for k in range(6)), rel=1e-13)
+    assert blocking == pytest.approx(float(exact), rel=1e-13)
+    # (A^c / c!) / sum_k A^k / k! (Erlang's loss formula, common practice), also in Fractions
+    assert exact == Fraction(2**5, 120) / sum(Fraction(2**k, math.factorial(k)) for k in range(6))
 
 
 def test_fifteen_channels_at_one_percent_blocking_carry_8_108_erlangs():
-    # A = 8.108 Erlangs for 15 channels at 1% blocking (published Erlang B tables)
+    # A = 8.108 Erlangs for 15 channels at 1% blocking (from memory: the 15-channel, 1% entry of
+    # Erlang B traffic tables); reference: the recursion solved for A in mpmath at 30 digits
+    mpmath.mp.dps = 30
+    expected = mpmath.findroot(lambda a: erlang_b(15, a) - mpmath.mpf("0.01"), 8)
+    assert round(float(expected), 3) == 8.108
     load = optimize.brentq(lambda a: loss_system(15, a).steady_state()[-1] - 0.01, 1.0, 15.0, xtol=1e-12)
-    assert round(load, 3) == 8.108
-    assert erlang_b(15, load) == pytest.approx(0.01, rel=1e-10)
+    assert load == pytest.approx(float(expected), rel=1e-10)
 
 
 def test_mm1k_blocking_probability():
-    # P_K = (1 - rho) rho^K / (1 - rho^(K+1)) = 0.0145434 for lambda 8, mu 10, K 12
-    # (Schaum's Outline of Probability, Random Variables and Random Processes, section 9.6)
+    # P_K = (1 - rho) rho^K / (1 - rho^(K+1)) for M/M/1/K (Kleinrock, Queueing Systems vol. 1,
+    # section 3.6, from memory); 0.0145434 for lambda 8, mu 10, K 12 is that formula evaluated
+    # here in Fractions, not a printed value
     law = mm1k(8.0, 10.0, 12).steady_state()
-    rho = 0.8
-    assert law[-1] == pytest.approx((1 - rho) * rho**12 / (1 - rho**13), rel=1e-13)
-    assert round(law[-1], 7) == 0.0145434
+    rho = Fraction(4, 5)
+    exact = (1 - rho) * rho**12 / (1 - rho**13)
+    assert law[-1] == pytest.approx(float(exact), rel=1e-13)
+    assert round(float(exact), 7) == 0.0145434
+
+
+def test_steady_state_split_sums_each_small_side_directly():
+    # reference: the balance equations solved by mpmath.lu_solve at 50 digits. The top level holds
+    # about 1e-40 of the long-run mass, so 1 - P(level < K) would give 0
+    chain = mm1k(1.0, 1e4, 10)
+    mpmath.mp.dps = 50
+    generator = mp_generator(chain)
+    system = mpmath.matrix(11, 11)
+    for i in range(11):
+        for j in range(11):
+            system[i, j] = generator[j, i] if i < 10 else 1
+    law = mpmath.lu_solve(system, mpmath.matrix([0] * 10 + [1]))
+    below, above = chain.steady_state_split(10)
+    assert above == pytest.approx(float(law[10]), rel=1e-8) and 1e-41 < above < 1e-39
+    assert below == 1.0 - above
+    # the sides switch at 1/2: here the small side is below the boundary
+    low, high = chain.steady_state_split(1)
+    assert low == pytest.approx(float(law[0]), rel=1e-12) and high == pytest.approx(1 - float(law[0]), rel=1e-12)
+    assert low + high == 1.0
+    assert chain.steady_state_split(0) == (0.0, 1.0) and chain.steady_state_split(11) == (1.0, 0.0)
+    with pytest.raises(ValueError, match="boundary must be a whole number from 0 to 11"):
+        chain.steady_state_split(12)
 
 
 def test_steady_state_solves_the_global_balance_equations():
@@ -186,6 +217,59 @@ def test_steady_state_is_a_probability_vector_in_detailed_balance(rates):
     assert law[:-1] * chain.birth[:-1] == pytest.approx(law[1:] * chain.death[1:], rel=1e-10)
 
 
+# -- passage curves -------------------------------------------------------------------------------
+
+
+def stopped_reference(birth, death, start, target, t):
+    """P(target reached by t) from mpmath.expm at 50 digits of the generator with the target made
+    absorbing (all levels kept; the levels beyond the target are simply never reached)."""
+    birth, death = list(birth), list(death)
+    birth[target] = death[target] = 0.0
+    mpmath.mp.dps = 50
+    law = mpmath.expm(mp_generator(BirthDeath(birth, death)) * mpmath.mpf(t))
+    return law[start, target]
+
+
+@pytest.mark.parametrize(("start", "target"), [(0, 6), (2, 5), (7, 1), (5, 0)])
+def test_passage_curve_matches_mpmath_both_ways(start, target):
+    # reference: mpmath.expm of the chain with the target absorbing; each side is checked where it
+    # is tiny: reached at t = 0.05, not reached at t = 1500
+    rng = np.random.default_rng(5)
+    birth, death = rng.uniform(0.3, 2.0, 8), rng.uniform(0.3, 2.0, 8)
+    chain = BirthDeath(birth, death)
+    times = [0.05, 1.0, 8.0, 1500.0]
+    curve = chain.passage_curve(start, target, times)
+    for i, t in enumerate(times):
+        reached = stopped_reference(chain.birth, chain.death, start, target, t)
+        assert curve.reached[i] == pytest.approx(float(reached), rel=1e-8)
+        assert curve.not_reached[i] == pytest.approx(float(1 - reached), rel=1e-8)
+    assert curve.reached[0] < 1e-5 and curve.not_reached[-1] < 1e-12
+    assert curve.dropped_mass <= 1e-290 and curve.steps > 0
+
+
+def test_passage_curve_to_the_start_level_is_certain_at_once():
+    curve = mm1k(1.0, 2.0, 5).passage_curve(3, 3, [0.0, 2.0])
+    assert curve.reached.tolist() == [1.0, 1.0] and curve.not_reached.tolist() == [0.0, 0.0]
+
+
+@settings(max_examples=60, deadline=None)
+@given(
+    rates=st.lists(st.tuples(st.floats(1e-3, 50.0), st.floats(1e-3, 50.0)), min_size=2, max_size=8),
+    ends=st.tuples(st.integers(0, 7), st.integers(0, 7)),
+    times=st.lists(st.floats(0.0, 30.0), min_size=1, max_size=12),
+)
+def test_passage_curves_are_monotone_probabilities(rates, ends, times):
+    chain = BirthDeath([b for b, _ in rates], [d for _, d in rates])
+    start, target = (min(end, chain.top) for end in ends)
+    curve = chain.passage_curve(start, target, times)
+    order = np.argsort(times, kind="stable")
+    # monotone by construction: exact comparisons, no tolerance
+    assert np.all(np.diff(curve.reached[order]) >= 0) and np.all(np.diff(curve.not_reached[order]) <= 0)
+    assert np.all((curve.reached >= 0) & (curve.reached <= 1))
+    assert np.all((curve.not_reached >= 0) & (curve.not_reached <= 1))
+    assert curve.reached + curve.not_reached == pytest.approx(np.ones(len(times)), abs=2e-16)
+
+
 # -- mean first passage ---------------------------------------------------------------------------
 
 
@@ -259,3 +343,7 @@ def test_bad_times_and_levels_name_the_parameter():
         chain.transient_curve(0, [1.0, math.inf])
     with pytest.raises(ValueError, match="target must be a whole number from 0 to 4"):
         chain.mean_first_passage(0, 9)
+    with pytest.raises(ValueError, match="target must be a whole number from 0 to 4"):
+        chain.passage_curve(0, 9, [1.0])
+    with pytest.raises(ValueError, match=r"times\[0\] must be a finite number from 0"):
+        chain.passage_curve(0, 4, [-1.0])

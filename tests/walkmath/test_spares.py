@@ -1,4 +1,4 @@
-"""Spares pool against the two-state model, exact rational solves and mpmath's matrix exponential."""
+"""Spares pool against the two-state model, exact rational solves and mpmath (matrix exponential, linear solves)."""
 
 import math
 from fractions import Fraction
@@ -8,6 +8,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from scipy import optimize
 
 from tests.walkmath.exact import mp_generator
 from walkmath.spares import SparesPool
@@ -115,18 +116,78 @@ def test_shortage_probability_matches_mpmath_down_to_rare_risks(mission_time):
 def test_shortage_probability_rises_with_the_mission_to_one():
     pool = SparesPool(units=4, spares=2, failure_rate=0.05, repair_rate=0.5)
     times = np.linspace(0.0, 40 * pool.mean_time_to_shortage(), 401)
-    curve = pool.shortage_curve(times)
-    # rising up to rounding: next to 1 the weights' sum wobbles by an ulp (1.1e-16)
-    assert curve[0] == 0.0 and np.all(np.diff(curve) >= -4e-16) and np.all(curve <= 1)
+    curve, spared = pool.shortage_curve(times), pool.no_shortage_curve(times)
+    # monotone by construction, so exactly: no tolerance (it must hold on every BLAS kernel)
+    assert curve[0] == 0.0 and np.all(np.diff(curve) >= 0) and np.all(curve <= 1)
+    assert spared[0] == 1.0 and np.all(np.diff(spared) <= 0) and np.all(spared >= 0)
     assert np.all(np.diff(curve[curve < 0.5]) > 0)
     assert curve[-1] == pytest.approx(1.0, abs=1e-12)
+    assert curve + spared == pytest.approx(np.ones(times.size), abs=2e-16)
     assert curve[57] == pytest.approx(pool.shortage_probability(times[57]), rel=1e-13)
+    assert spared[57] == pytest.approx(pool.no_shortage_probability(times[57]), rel=1e-12)
     # E[T] = integral of P(T > t) dt (common practice): trapezoid rule on the curve
     step = times[1] - times[0]
-    survival = 1.0 - curve
-    assert step * (survival.sum() - survival[0] / 2 - survival[-1] / 2) == pytest.approx(
+    assert step * (spared.sum() - spared[0] / 2 - spared[-1] / 2) == pytest.approx(
         pool.mean_time_to_shortage(), rel=1e-3
     )
+
+
+def test_no_shortage_far_out_keeps_relative_accuracy():
+    # reference: mpmath.expm of the stopped chain at 60 digits, summing the good states directly; at 40
+    # mean lifetimes the chance of no shortage is about 8e-19, where 1 - shortage would give 0
+    pool = SparesPool(units=4, spares=2, failure_rate=0.05, repair_rate=0.5)
+    times = np.linspace(0.0, 40 * pool.mean_time_to_shortage(), 401)
+    spared = pool.no_shortage_curve(times)
+    mpmath.mp.dps = 60
+    chain = pool.shortage_chain
+    for index in (120, 400):
+        law = mpmath.expm(mp_generator(chain) * mpmath.mpf(float(times[index])))
+        expected = float(mpmath.fsum(law[0, k] for k in range(chain.top)))
+        assert spared[index] == pytest.approx(expected, rel=1e-8)
+        assert pool.no_shortage_probability(times[index]) == pytest.approx(expected, rel=1e-8)
+    assert 1e-19 < spared[-1] < 1e-18
+
+
+@pytest.mark.parametrize(("units", "spares", "failure_rate", "repair_rate"), [(4, 2, 0.05, 0.5), (2, 1, 1.0, 0.2)])
+def test_shortage_curve_is_monotone_across_the_half_way_seam(units, spares, failure_rate, repair_rate):
+    # times a few ulps apart around the median time to shortage, where the curve hands over from
+    # the shortage side to the no-shortage side: both must still move one way only, exactly
+    pool = SparesPool(units=units, spares=spares, failure_rate=failure_rate, repair_rate=repair_rate)
+    median = optimize.brentq(lambda t: pool.shortage_probability(t) - 0.5, 1e-3, 1e4, xtol=1e-14)
+    times = median * (1 + np.arange(-300, 300) * 2e-16)
+    curve, spared = pool.shortage_curve(times), pool.no_shortage_curve(times)
+    assert np.all(np.diff(curve) >= 0) and np.all(np.diff(spared) <= 0)
+    assert curve.min() < 0.5 < curve.max() or 0.5 in curve
+    assert curve + spared == pytest.approx(np.ones(times.size), abs=2e-16)
+    coarse = np.linspace(0.0, 2 * median, 7)  # the seam between far-apart times too
+    assert np.all(np.diff(pool.shortage_curve(coarse)) > 0) and np.all(np.diff(pool.no_shortage_curve(coarse)) < 0)
+
+
+def test_shortage_curve_takes_times_in_any_order():
+    pool = SparesPool(units=3, spares=1, failure_rate=0.1, repair_rate=1.0)
+    times = [30.0, 0.0, 5.0, 5.0, 12.5]
+    curve = pool.shortage_curve(times)
+    ordered = pool.shortage_curve(sorted(times))
+    assert curve.tolist() == [ordered[4], ordered[0], ordered[1], ordered[2], ordered[3]]
+    assert curve[2] == curve[3]  # the same time twice gives the same value
+
+
+def test_unavailability_near_1e_minus_12_matches_mpmath():
+    # reference: the balance equations pi Q = 0, sum pi = 1 solved by mpmath.lu_solve at 50 digits
+    # (a linear solve, not the product form walkmath uses)
+    pool = SparesPool(units=2, spares=3, failure_rate=0.0005, repair_rate=1.0, crews=1)
+    mpmath.mp.dps = 50
+    generator = mp_generator(pool.chain)
+    size = pool.chain.top + 1
+    system = mpmath.matrix(size, size)
+    for i in range(size):
+        for j in range(size):
+            system[i, j] = generator[j, i] if i < size - 1 else 1
+    law = mpmath.lu_solve(system, mpmath.matrix([0] * (size - 1) + [1]))
+    expected = float(mpmath.fsum(law[k] for k in range(pool.spares + 1, size)))
+    assert 1e-13 < expected < 1e-11
+    assert pool.unavailability() == pytest.approx(expected, rel=1e-8)
+    assert pool.availability() == 1.0 - pool.unavailability()  # the large side is the complement
 
 
 @settings(max_examples=60, deadline=None)
@@ -145,9 +206,12 @@ def test_pool_laws_are_probabilities(units, spares, failure_rate, repair_rate, c
     assert 0 <= pool.availability() <= 1
     assert pool.availability() + pool.unavailability() == pytest.approx(1.0, abs=1e-13)
     risk = pool.shortage_probability(mission_time)
-    assert 0 <= risk <= 1
-    # rising up to rounding: next to 1 the absolute error is about (steps taken) x 1e-16
-    assert risk <= pool.shortage_probability(mission_time * 1.5 + 0.1) + 1e-13
+    assert 0 <= risk <= 1 and 0 <= pool.no_shortage_probability(mission_time) <= 1
+    times = [mission_time, mission_time * 1.5 + 0.1, mission_time * 3 + 1]
+    curve, spared = pool.shortage_curve(times), pool.no_shortage_curve(times)
+    assert np.all(np.diff(curve) >= 0) and np.all(np.diff(spared) <= 0)  # monotone by construction
+    assert np.all((curve >= 0) & (curve <= 1) & (spared >= 0) & (spared <= 1))
+    assert curve[0] == pytest.approx(risk, rel=1e-12, abs=1e-300)
     assert pool.mean_time_to_shortage() > 0
 
 
@@ -178,3 +242,7 @@ def test_bad_mission_times_name_the_parameter():
         pool.shortage_probability(1e9)  # gamma t beyond the uniformization cap
     with pytest.raises(ValueError, match=r"mission_times\[0\]"):
         pool.shortage_curve([math.nan])
+    with pytest.raises(ValueError, match="mission_time must be a finite number from 0.0 to"):
+        pool.no_shortage_probability(math.inf)
+    with pytest.raises(ValueError, match=r"mission_times\[1\]"):
+        pool.no_shortage_curve([1.0, -2.0])
