@@ -77,13 +77,14 @@ def period_name(period: str, count: float = 1) -> str:
 def periods(value, period: str = "day") -> str:
     """A number of periods in the scenario's period: '56 days (8 weeks)', '9.53 × 10¹² days'.
 
-    ``inf`` reads as 'not certain to happen'; a value with ``at_least`` set (a
-    lower bound from the engine) reads as 'more than ...'.
+    ``inf`` (an event that may never come, or whose mean is unbounded) reads as
+    'no finite average'; a value with ``at_least`` set (the engine's
+    ``MeanTime`` lower bound) reads as 'more than ...'.
     """
     if value is None:
         return "—"
     if math.isinf(float(value)):
-        return "not certain to happen"
+        return "no finite average"
     text = f"{number(value)} {period_name(period, float(value))}"
     if getattr(value, "at_least", False):
         return f"more than {text}"
