@@ -21,12 +21,28 @@ from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.passage import first_stockout_times
 from walkmath.ruin import expected_duration, ruin_probability
+from walkmath.service import (
+    ReorderPointPlan,
+    expected_shortage,
+    fill_rate,
+    normal_loss,
+    protection_demand,
+    reorder_point_plan,
+    unfilled_share,
+)
 from walkmath.sizing import CapacityRisk
 from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
 
 __all__ = [
+    "unfilled_share",
+    "reorder_point_plan",
+    "protection_demand",
+    "normal_loss",
+    "fill_rate",
+    "expected_shortage",
+    "ReorderPointPlan",
     "BandedWalk",
     "BirthDeath",
     "COMPUTE_CAP",
