@@ -20,6 +20,7 @@ from walkmath.distribution import LevelDistribution, law_power, level_distributi
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.passage import first_stockout_times
+from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.service import (
     ReorderPointPlan,
@@ -36,6 +37,9 @@ from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
 
 __all__ = [
+    "StockoutRisk",
+    "PolicyMeasures",
+    "PeriodicReview",
     "unfilled_share",
     "reorder_point_plan",
     "protection_demand",
