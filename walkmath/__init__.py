@@ -21,6 +21,7 @@ from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
+from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.service import (
     ReorderPointPlan,
@@ -37,6 +38,11 @@ from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
 
 __all__ = [
+    "smallest_reorder_level",
+    "smallest_order_up_to",
+    "best_policy",
+    "PolicyChoice",
+    "LevelSearch",
     "StockoutRisk",
     "PolicyMeasures",
     "PeriodicReview",

@@ -119,14 +119,14 @@ class PeriodicReview:
     def measures(self) -> PolicyMeasures:
         """All long-run measures at once (one position law, one pass of the demand tables)."""
         drop, orders = self._drop
-        end = _convolve(drop, self.demand.probs)
+        end = end_drop_law(drop, self.demand)
         curves = measure_curves(drop, end, self._tables, np.array([self.order_up_to]), self.unmet)
         return PolicyMeasures(**{name: float(values[0]) for name, values in curves.items()}, orders_per_period=orders)
 
     def steady_state(self) -> LevelDistribution:
         """Long-run law of the end-of-period stock: net stock (negative = backorders) or on hand (lost sales)."""
         drop, _ = self._drop
-        end = _convolve(drop, self.demand.probs)  # V = S - end-of-period net stock
+        end = end_drop_law(drop, self.demand)  # V = S - end-of-period net stock
         levels = self.order_up_to - np.arange(end.size)[::-1]
         probs = end[::-1].copy()
         if self.unmet == "lost" and levels[0] < 0:
@@ -209,7 +209,11 @@ def measure_curves(
     beyond = np.append(np.cumsum(drop[::-1])[::-1], 0.0)  # P(W >= w)
 
     def expect(table: np.ndarray) -> np.ndarray:
-        body = np.convolve(drop[: top + 1], table[: top + 1])[order_up_to]
+        if order_up_to.size == 1:  # one level: a dot product, not a whole convolution
+            reach = min(top, drop.size - 1)
+            body = np.array([drop[: reach + 1] @ table[top - reach : top + 1][::-1]])
+        else:
+            body = np.convolve(drop[: top + 1], table[: top + 1])[order_up_to]
         over = beyond[np.minimum(order_up_to + 1, beyond.size - 1)]
         return body + table[0] * over
 
@@ -245,8 +249,7 @@ def renewal_weights(demand: StepLaw, length: int) -> np.ndarray:
     O(length x demand width). u(j) = P(D >= 1) x (expected visits of the demand's partial sums to j),
     which tends to P(D >= 1) / E[D] (renewal theorem), so it neither overflows nor underflows.
     """
-    probs = np.zeros(demand.highest + 1)
-    probs[demand.lowest :] = demand.probs
+    probs = count_probs(demand)
     moving = math.fsum(probs[1:])  # P(D >= 1) from its own side, never 1 - P(D = 0)
     weights = np.zeros(length)
     weights[0] = 1.0
@@ -291,6 +294,18 @@ def orders_per_review(position: np.ndarray, tables: DemandTables) -> float:
     return min(math.fsum(position * above), 1.0)
 
 
+def count_probs(demand: StepLaw) -> np.ndarray:
+    """P(D = k) for k = 0..max (a count law stored from its lowest count)."""
+    probs = np.zeros(demand.highest + 1)
+    probs[demand.lowest :] = demand.probs
+    return probs
+
+
+def end_drop_law(drop: np.ndarray, demand: StepLaw) -> np.ndarray:
+    """Law of V = W + one period's demand (S - V is the end-of-period net stock)."""
+    return _convolve(drop, count_probs(demand))
+
+
 def _convolve(left: np.ndarray, right: np.ndarray) -> np.ndarray:
     return np.minimum(np.convolve(left, right), 1.0)
 
@@ -300,10 +315,8 @@ def _convolve(left: np.ndarray, right: np.ndarray) -> np.ndarray:
 
 def _pipeline(policy: PeriodicReview, start: int, shortage_moves: bool = True) -> ReviewChain:
     due = (0,) * max(policy.lead_time - 1, 0)
-    probs = np.zeros(policy.demand.highest + 1)
-    probs[policy.demand.lowest :] = policy.demand.probs
     return ReviewChain(
-        probs,
+        count_probs(policy.demand),
         policy.reorder_level,
         policy.order_up_to,
         policy.lead_time,

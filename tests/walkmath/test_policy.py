@@ -20,6 +20,10 @@ from walkmath.policy import PeriodicReview, _chain_steady_state, _pipeline, posi
 CRATES = {0: Fraction(1, 2), 1: Fraction(1, 4), 3: Fraction(1, 4)}
 CRATES_LAW = wm.StepLaw.from_pmf({k: float(v) for k, v in CRATES.items()})
 
+# A crate round of one or two, never none: the demand law starts above 0.
+ROUNDS = {1: Fraction(1, 3), 2: Fraction(2, 3)}
+ROUNDS_LAW = wm.StepLaw.from_pmf({k: float(v) for k, v in ROUNDS.items()})
+
 CASES = [
     (1, 4, 0, "lost"),
     (1, 4, 0, "backorder"),
@@ -37,10 +41,11 @@ CASES = [
 
 
 @pytest.mark.parametrize("s, big_s, lead_time, unmet", CASES)
-def test_long_run_measures_match_the_exact_fraction_chain(s, big_s, lead_time, unmet):
+@pytest.mark.parametrize("pmf, law", [(CRATES, CRATES_LAW), (ROUNDS, ROUNDS_LAW)], ids=["crates", "rounds"])
+def test_long_run_measures_match_the_exact_fraction_chain(s, big_s, lead_time, unmet, pmf, law):
     # Reference: tests/walkmath/exact.py, the rules read literally and the chain solved in fractions.
-    exact = periodic_review_long_run(CRATES, s, big_s, lead_time, unmet)
-    measures = PeriodicReview(CRATES_LAW, s, big_s, lead_time, unmet).measures()
+    exact = periodic_review_long_run(pmf, s, big_s, lead_time, unmet)
+    measures = PeriodicReview(law, s, big_s, lead_time, unmet).measures()
     assert measures.stockout_probability == pytest.approx(float(exact["stockout"]), rel=1e-13)
     assert measures.in_stock_probability == pytest.approx(float(1 - exact["stockout"]), rel=1e-13)
     assert measures.fill_rate == pytest.approx(float(exact["fill_rate"]), rel=1e-13)
@@ -52,14 +57,15 @@ def test_long_run_measures_match_the_exact_fraction_chain(s, big_s, lead_time, u
 
 
 @pytest.mark.parametrize("s, big_s, lead_time, unmet", CASES)
-def test_steady_state_is_the_exact_end_of_period_stock_law(s, big_s, lead_time, unmet):
-    exact = periodic_review_long_run(CRATES, s, big_s, lead_time, unmet)["end_law"]
-    law = PeriodicReview(CRATES_LAW, s, big_s, lead_time, unmet).steady_state()
+@pytest.mark.parametrize("pmf, demand", [(CRATES, CRATES_LAW), (ROUNDS, ROUNDS_LAW)], ids=["crates", "rounds"])
+def test_steady_state_is_the_exact_end_of_period_stock_law(s, big_s, lead_time, unmet, pmf, demand):
+    exact = periodic_review_long_run(pmf, s, big_s, lead_time, unmet)["end_law"]
+    law = PeriodicReview(demand, s, big_s, lead_time, unmet).steady_state()
     for level, p in exact.items():
         assert law.prob(level) == pytest.approx(float(p), rel=1e-13), level
     assert {int(v) for v in law.levels[law.probs > 0]} == {k for k, p in exact.items() if p > 0}
     assert math.fsum(law.probs) == pytest.approx(1.0, abs=1e-14)
-    assert PeriodicReview(CRATES_LAW, s, big_s, lead_time, unmet).mean_on_hand() == pytest.approx(
+    assert PeriodicReview(demand, s, big_s, lead_time, unmet).mean_on_hand() == pytest.approx(
         math.fsum(np.maximum(law.levels, 0) * law.probs), rel=1e-13
     )
 
