@@ -239,3 +239,19 @@ def test_oversized_pipeline_chain_is_refused_before_any_work():
         policy.steady_state()
     with pytest.raises(wm.ComputeTooLarge):
         policy.stockout_risk(1000)
+
+
+# A rare big order among small ones: a stock-out needs two of them close together.
+RARE = {0: Fraction(9, 10), 1: Fraction(1, 10) - Fraction(1, 10**7), 4: Fraction(1, 10**7)}
+RARE_LAW = wm.StepLaw.from_pmf({k: float(v) for k, v in RARE.items()})
+
+
+@pytest.mark.parametrize("s, big_s, lead_time, unmet", [(2, 5, 0, "lost"), (4, 8, 1, "lost"), (5, 9, 2, "backorder")])
+def test_rare_stockout_probability_keeps_relative_accuracy(s, big_s, lead_time, unmet):
+    # Exact fraction chain (tests/walkmath/exact.py): the stock-out probability is below 1e-6 (far
+    # below with a lead time), where 1 - P(in stock) would keep few or no digits.
+    exact = periodic_review_long_run(RARE, s, big_s, lead_time, unmet)
+    measures = PeriodicReview(RARE_LAW, s, big_s, lead_time, unmet).measures()
+    assert 0 < exact["stockout"] < Fraction(1, 10**6)
+    assert measures.stockout_probability == pytest.approx(float(exact["stockout"]), rel=1e-9)
+    assert measures.unfilled_share == pytest.approx(float(1 - exact["fill_rate"]), rel=1e-9)
