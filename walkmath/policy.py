@@ -38,10 +38,11 @@ from walkmath import checks
 from walkmath.cost import Work
 from walkmath.distribution import LevelDistribution
 from walkmath.leadtime import lead_time_demand
-from walkmath.reviewchain import ReviewChain, chain_work, closed_class, gth_steady_state
+from walkmath.reviewchain import ReviewChain, chain_work, closed_class, gth_steady_state, gth_work
 from walkmath.steplaw import StepLaw
 
 UNMET_RULES = ("lost", "backorder")
+_KNOB = "lower the order-up-to level, shorten the lead time or coarsen the demand units"
 # Largest order-up-to level and lead time, in demand units and periods.
 LEVEL_CAP = 1_000_000
 LEAD_CAP = 10_000
@@ -103,9 +104,10 @@ class PeriodicReview:
         jumps = self.demand.probs.size
         if method == "stockout_risk":
             top = max(self.order_up_to, start or 0)
-            return chain_work("stockout_risk", top, self.lead_time, jumps, horizon=max(horizon, 1))
+            return chain_work("stockout_risk", top, self.lead_time, jumps, horizon=horizon)
         if self.unmet == "lost" and self.lead_time > 0:
-            return chain_work("steady_state", self.order_up_to, self.lead_time, jumps, dense=True)
+            # The state search; the GTH solve is priced again on the closed class found, before it runs.
+            return chain_work("steady_state", self.order_up_to, self.lead_time, jumps)
         return position_work(self.demand, self.order_up_to, self.order_up_to - self.reorder_level, self.lead_time)
 
     # -- long run ----------------------------------------------------------------------------------------
@@ -220,17 +222,13 @@ def measure_curves(
     beyond = np.append(np.cumsum(drop[::-1])[::-1], 0.0)  # P(W >= w)
 
     def expect(table: np.ndarray) -> np.ndarray:
-        if order_up_to.size == 1:  # one level: a dot product, not a whole convolution
-            reach = min(top, drop.size - 1)
-            body = np.array([drop[: reach + 1] @ table[top - reach : top + 1][::-1]])
-        else:
-            body = np.convolve(drop[: top + 1], table[: top + 1])[order_up_to]
+        body = _at_levels(drop[: top + 1], table, order_up_to)
         over = beyond[np.minimum(order_up_to + 1, beyond.size - 1)]
         return body + table[0] * over
 
     end_tail = np.append(np.cumsum(end_drop[::-1])[::-1][1:], 0.0)  # P(V > v)
     end_loss = np.append(np.cumsum(end_tail[::-1])[::-1], 0.0)  # E[(V - v)+] = sum_{k >= v} P(V > k)
-    on_hand = np.convolve(end_drop[:top], np.arange(top + 1))[order_up_to] if top > 0 else np.zeros(1)
+    on_hand = _at_levels(end_drop[:top], np.arange(top + 1.0), order_up_to)
     mean = tables.mean
     curves = {
         "stockout_probability": np.minimum(expect(tables.above), 1.0),
@@ -249,6 +247,21 @@ def measure_curves(
         for name in ("in_stock_probability", "fill_rate", "mean_on_hand"):
             curves[name] = np.maximum.accumulate(curves[name])
     return curves
+
+
+def _at_levels(law: np.ndarray, table: np.ndarray, levels: np.ndarray) -> np.ndarray:
+    """sum_{w <= S} law[w] table[S - w] at each S in ``levels`` (non-negative terms, never FFT).
+
+    One level: a dot product; many: one direct convolution (numpy's convolve is direct).
+    """
+    if law.size == 0:
+        return np.zeros(levels.size)
+    if levels.size == 1:
+        level = int(levels[0])
+        reach = min(level, law.size - 1)
+        return np.array([law[: reach + 1] @ table[level - reach : level + 1][::-1]])
+    top = int(levels.max())
+    return np.convolve(law[: top + 1], table[: top + 1])[levels]
 
 
 # -- the position law (renewal product form) ----------------------------------------------------------
@@ -278,16 +291,15 @@ def position_law(demand: StepLaw, gap: int) -> np.ndarray:
 
 
 def position_work(demand: StepLaw, order_up_to: int, gap: int, lead_time: int) -> Work:
-    """The renewal weights, the drop law (convolution with the lead-time demand) and the tables."""
-    jumps = demand.probs.size
+    """Renewal weights (gap steps over the demand width), the lead-time law and its convolution with
+    the position law, and the measures at one level (a few dot products of length S)."""
+    width = demand.probs.size
     lead_levels = lead_time * demand.highest + 1
-    return Work(
-        "steady_state",
-        gap + lead_levels + demand.highest + order_up_to,
-        1 + max(1, math.ceil(math.log2(lead_time + 1))),
-        max(jumps, gap),
-        knob="lower the order-up-to level, shorten the lead time or coarsen the demand units",
-    )
+    renewal = Work("steady_state", width, gap, 1, knob=_KNOB)
+    lead = Work("steady_state", lead_levels, max(1, math.ceil(math.log2(lead_time + 1))), width, knob=_KNOB)
+    drop = Work("steady_state", gap + lead_levels, 1, min(gap, lead_levels), knob=_KNOB)
+    tables = Work("steady_state", order_up_to + gap + lead_levels + width, 1, 8, knob=_KNOB)
+    return renewal + lead + drop + tables
 
 
 def drop_law(position: np.ndarray, demand: StepLaw, lead_time: int) -> np.ndarray:
@@ -340,6 +352,7 @@ def _chain_steady_state(chain: ReviewChain) -> np.ndarray:
     """Long-run law over the chain's states (0 off its closed class), by GTH on the closed class."""
     full = (chain.transitions + chain.shortage_transitions).tocsr()
     members = closed_class(full)
+    gth_work(members.size).check()
     weights = np.zeros(len(chain.states))
     weights[members] = gth_steady_state(full[members][:, members].toarray())
     return weights

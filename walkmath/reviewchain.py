@@ -26,8 +26,8 @@ from scipy.sparse import csgraph
 
 from walkmath.cost import Work
 
-# Largest closed class solved densely by GTH: about n^3 / 3 multiply-adds, a few seconds at 2,000.
-GTH_STATES = 2_000
+# Cost of one (state, demand) step of the Python state search, in work units (about 1 microsecond).
+SEARCH_STEP = 5_000
 
 
 def state_bound(top: int, lead_time: int) -> int:
@@ -36,16 +36,28 @@ def state_bound(top: int, lead_time: int) -> int:
     return math.comb(top + parts, parts)
 
 
-def chain_work(method: str, top: int, lead_time: int, jumps: int, horizon: int = 1, dense: bool = False) -> Work:
+def chain_work(method: str, top: int, lead_time: int, jumps: int, horizon: int = 0) -> Work:
+    """The state search (bounded by ``state_bound``) and ``horizon`` sparse sweeps over the states.
+
+    The GTH solve is priced separately on the closed class actually found (``gth_work``).
+    """
     states = state_bound(top, lead_time)
     return Work(
         method,
         states,
         horizon,
         jumps,
-        dense=states**3 // 3 if dense else 0,
-        knob="lower the order-up-to level, shorten the lead time or coarsen the demand units",
+        dense=states * jumps * SEARCH_STEP,
+        knob=_KNOB,
     )
+
+
+def gth_work(states: int) -> Work:
+    """GTH on a dense closed class: about n^3 / 3 multiply-adds."""
+    return Work("steady_state", states, 1, 1, copies=0, dense=states**3 // 3, knob=_KNOB)
+
+
+_KNOB = "lower the order-up-to level, shorten the lead time or coarsen the demand units"
 
 
 class ReviewChain:
