@@ -29,7 +29,7 @@ probability and its complement come from their own side.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from functools import cached_property
 
 import numpy as np
@@ -38,7 +38,7 @@ from walkmath import checks
 from walkmath.cost import Work
 from walkmath.distribution import LevelDistribution
 from walkmath.leadtime import lead_time_demand
-from walkmath.reviewchain import ReviewChain, chain_work, closed_class, gth_steady_state, gth_work
+from walkmath.reviewchain import ReviewChain, chain_work, closed_class, gth_steady_state, gth_work, state_bound
 from walkmath.steplaw import StepLaw
 
 UNMET_RULES = ("lost", "backorder")
@@ -104,11 +104,15 @@ class PeriodicReview:
         jumps = self.demand.probs.size
         if method == "stockout_risk":
             top = max(self.order_up_to, start or 0)
-            return chain_work("stockout_risk", top, self.lead_time, jumps, horizon=horizon)
+            return chain_work("stockout_risk", self._states(top), jumps, horizon=horizon)
         if self.unmet == "lost" and self.lead_time > 0:
             # The state search; the GTH solve is priced again on the closed class found, before it runs.
-            return chain_work("steady_state", self.order_up_to, self.lead_time, jumps)
+            return chain_work("steady_state", self._states(self.order_up_to), jumps)
         return position_work(self.demand, self.order_up_to, self.order_up_to - self.reorder_level, self.lead_time)
+
+    def _states(self, top: int) -> int:
+        gap = self.order_up_to - self.reorder_level
+        return state_bound(top, self.lead_time, self.order_up_to, gap)
 
     # -- long run ----------------------------------------------------------------------------------------
 
@@ -295,11 +299,20 @@ def position_work(demand: StepLaw, order_up_to: int, gap: int, lead_time: int) -
     the position law, and the measures at one level (a few dot products of length S)."""
     width = demand.probs.size
     lead_levels = lead_time * demand.highest + 1
-    renewal = Work("steady_state", width, gap, 1, knob=_KNOB)
-    lead = Work("steady_state", lead_levels, max(1, math.ceil(math.log2(lead_time + 1))), width, knob=_KNOB)
-    drop = Work("steady_state", gap + lead_levels, 1, min(gap, lead_levels), knob=_KNOB)
-    tables = Work("steady_state", order_up_to + gap + lead_levels + width, 1, 8, knob=_KNOB)
-    return renewal + lead + drop + tables
+    parts = [
+        Work("steady_state", width, gap, 1, knob=_KNOB),
+        Work("steady_state", lead_levels, max(1, math.ceil(math.log2(lead_time + 1))), width, knob=_KNOB),
+        Work("steady_state", gap + lead_levels, 1, min(gap, lead_levels), knob=_KNOB),
+        Work("steady_state", order_up_to + gap + lead_levels + width, 1, 8, knob=_KNOB),
+    ]
+    return total_work(parts)
+
+
+def total_work(parts: list[Work]) -> Work:
+    """The largest part, carrying the others' units as extra (``Work.__add__`` would count the largest twice)."""
+    largest = max(parts, key=lambda part: part.units)
+    rest = sum(part.units for part in parts) - largest.units
+    return replace(largest, dense=largest.dense + rest)
 
 
 def drop_law(position: np.ndarray, demand: StepLaw, lead_time: int) -> np.ndarray:

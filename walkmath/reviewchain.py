@@ -30,26 +30,26 @@ from walkmath.cost import Work
 SEARCH_STEP = 5_000
 
 
-def state_bound(top: int, lead_time: int) -> int:
-    """Upper bound on the states: on hand and L - 1 orders due, all >= 0, summing to at most ``top``."""
-    parts = max(lead_time, 1)  # on hand plus lead_time - 1 orders due
-    return math.comb(top + parts, parts)
+def state_bound(top: int, lead_time: int, order_up_to: int, gap: int) -> int:
+    """Upper bound on the states (on hand, L - 1 orders due) reachable from at most ``top`` on hand.
+
+    On hand is 0..top; every order is at least the gap S - s and the orders due
+    sum to at most S, so at most min(L - 1, S // gap) of them are not 0; k such
+    orders with sum <= S can be chosen in C(S - k gap + k, k) ways.
+    """
+    slots = max(lead_time - 1, 0)
+    due = sum(
+        math.comb(slots, k) * math.comb(order_up_to - k * gap + k, k) for k in range(min(slots, order_up_to // gap) + 1)
+    )
+    return (top + 1) * due
 
 
-def chain_work(method: str, top: int, lead_time: int, jumps: int, horizon: int = 0) -> Work:
-    """The state search (bounded by ``state_bound``) and ``horizon`` sparse sweeps over the states.
+def chain_work(method: str, states: int, jumps: int, horizon: int = 0) -> Work:
+    """The state search over at most ``states`` states and ``horizon`` sparse sweeps over them.
 
     The GTH solve is priced separately on the closed class actually found (``gth_work``).
     """
-    states = state_bound(top, lead_time)
-    return Work(
-        method,
-        states,
-        horizon,
-        jumps,
-        dense=states * jumps * SEARCH_STEP,
-        knob=_KNOB,
-    )
+    return Work(method, states, horizon, jumps, dense=states * jumps * SEARCH_STEP, knob=_KNOB)
 
 
 def gth_work(states: int) -> Work:
