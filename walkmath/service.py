@@ -59,9 +59,12 @@ def normal_loss(z: float | np.ndarray) -> float | np.ndarray:
     Laplace's continued fraction (Abramowitz and Stegun 26.2.14), all terms positive,
     so G keeps its digits down to the underflow limit (about z = 37).
     """
-    values = np.asarray(z, dtype=float)
+    try:
+        values = np.asarray(z, dtype=float)
+    except (TypeError, ValueError):
+        values = np.array(np.nan)
     if not np.all(np.isfinite(values)):
-        raise ValueError(f"z must be finite; got {z!r}")
+        raise ValueError(f"z must be a finite number (or an array of them); got {z!r}")
     size = np.abs(values)
     phi = np.exp(-0.5 * size * size) / _SQRT_2PI
     direct = phi - size * special.ndtr(-size)
@@ -182,7 +185,10 @@ def fill_rate(
 
     1 - (B(r) - B(r + Q)) / Q, computed from the filled side as
     sum_{k=r}^{r+Q-1} P(D <= k) / Q (non-negative terms; see ``unfilled_share``
-    for the complement from its own side). Exact up to rounding.
+    for the complement from its own side). Exact up to rounding for continuous
+    review; with ``review_period`` > 0 the same formula on the protection-interval
+    demand is the usual approximation for periodic review (common practice), not
+    an exact periodic-review result (for that, see ``PeriodicReview``).
     """
     filled, _ = _fill_sides(demand, lead_time, reorder_point, order_quantity, review_period)
     return filled

@@ -117,6 +117,12 @@ def test_normal_loss_against_direct_integration(z):
     assert normal_loss(z) == pytest.approx(float(exact), rel=1e-13)
 
 
+@pytest.mark.parametrize("z", [float("nan"), float("inf"), "one", [0.0, float("nan")]])
+def test_normal_loss_refuses_non_finite_input(z):
+    with pytest.raises(ValueError, match="z must be a finite number"):
+        normal_loss(z)
+
+
 def test_normal_loss_symmetry_and_inverse():
     # G(z) - G(-z) = -z (definition: E[(Z - z)+] - E[(z - Z)+] = -z).
     for z in (0.3, 1.7, 4.0):
