@@ -35,13 +35,16 @@ def state_bound(top: int, lead_time: int, order_up_to: int, gap: int) -> int:
 
     On hand is 0..top; every order is at least the gap S - s and the orders due
     sum to at most S, so at most min(L - 1, S // gap) of them are not 0; k such
-    orders with sum <= S can be chosen in C(S - k gap + k, k) ways.
+    orders with sum <= S can be chosen in C(S - k gap + k, k) ways. The position
+    (on hand plus orders due) is at most top, which bounds the count by
+    C(top + L, L) as well.
     """
     slots = max(lead_time - 1, 0)
     due = sum(
         math.comb(slots, k) * math.comb(order_up_to - k * gap + k, k) for k in range(min(slots, order_up_to // gap) + 1)
     )
-    return (top + 1) * due
+    parts = max(lead_time, 1)  # on hand and the orders due also sum to at most top
+    return min((top + 1) * due, math.comb(top + parts, parts))
 
 
 def chain_work(method: str, states: int, jumps: int, horizon: int = 0) -> Work:

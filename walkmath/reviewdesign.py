@@ -42,11 +42,14 @@ from walkmath.policy import (
     orders_per_review,
     renewal_weights,
 )
+from walkmath.reviewchain import chain_work, gth_work, state_bound
 from walkmath.steplaw import StepLaw
 
 MEASURES = ("cycle", "fill")
 # Largest holding, order or shortage price accepted (any money unit).
 PRICE_CAP = 1e12
+# Unfilled share of the backorder policy at the default search edge for lost sales with a lead time.
+LOST_EDGE = 1e-9
 _SERVICE = {"cycle": ("in_stock_probability", "stockout_probability"), "fill": ("fill_rate", "unfilled_share")}
 _KNOB = "lower top (the largest order-up-to level searched), the largest gap, or coarsen the demand units"
 
@@ -142,9 +145,11 @@ class _Shared:
 
 def _search_work(method: str, demand: StepLaw, lead_time: int, unmet: str, top: int, gaps: int, per_gap: int) -> Work:
     if unmet == "lost" and lead_time > 0:
-        probe = PeriodicReview(demand, top - 1, top, lead_time, "lost").cost()
+        # Per candidate: the state search and GTH, both on the state bound of the largest chain (gap 1, S = top).
+        states = state_bound(top, lead_time, top, 1)
+        each = chain_work(method, states, demand.probs.size).units + gth_work(states).units
         return Work(
-            method, probe.levels, gaps * per_gap, probe.jumps, copies=1, dense=probe.units * gaps * per_gap, knob=_KNOB
+            method, states, gaps * per_gap, demand.probs.size, copies=0, dense=each * gaps * per_gap, knob=_KNOB
         )
     lead_levels = lead_time * demand.highest + 1
     return Work(method, top + gaps + lead_levels, gaps, 7 * (top + 1) + lead_levels, knob=_KNOB)
@@ -164,9 +169,18 @@ def _common(demand, target, measure, lead_time, unmet):
     return demand, target, measure, lead_time, unmet
 
 
-def _certain_top(demand: StepLaw, lead_time: int, gap: int) -> int:
-    """An S at which no stock-out can happen: S - (gap - 1) - L x max demand >= max demand."""
-    return gap - 1 + (lead_time + 1) * demand.highest
+def _default_top(demand: StepLaw, lead_time: int, unmet: str, gap: int) -> int:
+    """Largest S searched by default.
+
+    Shared forms: an S at which no stock-out can happen, S - (gap - 1) - L x max
+    demand >= max demand (cheap, so the search is complete). Lost sales with a lead
+    time (one chain per candidate): the smallest S whose backorder policy with the
+    same gap fills all but 1e-9 of demand, a heuristic edge the curves let one check.
+    """
+    certain = gap - 1 + (lead_time + 1) * demand.highest
+    if unmet == "backorder" or lead_time == 0:
+        return certain
+    return smallest_order_up_to(demand, 1.0 - LOST_EDGE, "fill", lead_time, "backorder", gap=gap).answer or certain
 
 
 # -- smallest order-up-to level ----------------------------------------------------------------------------------
@@ -184,13 +198,17 @@ def smallest_order_up_to(
     """Smallest S (with s = S - ``gap``; gap 1 is an order-up-to policy) whose long-run service meets ``target``.
 
     Candidates S = gap..top; ``top`` defaults to a level where no stock-out can
-    happen, so an answer always exists then. One drop law, one convolution per
+    happen, so an answer always exists then (lost sales with a lead time: see
+    ``_default_top``; the answer is None if the target is not met by then). One drop law, one convolution per
     measure over all S (exact up to rounding, curves monotone in S).
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
     gap = checks.whole("gap", gap, minimum=1, maximum=LEVEL_CAP)
-    default = _certain_top(demand, lead_time, gap)
-    top = default if top is None else checks.whole("top", top, minimum=gap, maximum=LEVEL_CAP)
+    top = (
+        _default_top(demand, lead_time, unmet, gap)
+        if top is None
+        else checks.whole("top", top, minimum=gap, maximum=LEVEL_CAP)
+    )
     levels = np.arange(gap, top + 1)
     _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size).check()
     shared = _Shared(demand, lead_time, unmet, top, gap)
@@ -289,7 +307,7 @@ def best_policy(
 
     Cost = holding x mean on hand + order_cost x orders per period +
     shortage_penalty x mean units short. ``top`` defaults to a level with no
-    stock-outs at the largest gap; ``largest_gap`` to three economic order
+    stock-outs at the largest gap (see ``_default_top``); ``largest_gap`` to three economic order
     quantities sqrt(2 K E[D] / h) (common practice) and at least 10. The best is
     exact on that grid; the cost curves show whether the grid's edge binds.
     """
@@ -308,8 +326,11 @@ def best_policy(
         if top is not None:
             largest_gap = min(largest_gap, top)
     largest_gap = checks.whole("largest_gap", largest_gap, minimum=1, maximum=LEVEL_CAP)
-    default = _certain_top(demand, lead_time, largest_gap)
-    top = default if top is None else checks.whole("top", top, minimum=1, maximum=LEVEL_CAP)
+    top = (
+        _default_top(demand, lead_time, unmet, largest_gap)
+        if top is None
+        else checks.whole("top", top, minimum=1, maximum=LEVEL_CAP)
+    )
     largest_gap = min(largest_gap, top)
     _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top).check()
     shared = _Shared(demand, lead_time, unmet, top, largest_gap)
