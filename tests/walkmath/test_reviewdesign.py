@@ -78,13 +78,15 @@ def exact_cost(s, big_s, lead_time, unmet, holding, order_cost, penalty):
 @pytest.mark.parametrize("target", [None, 0.97])
 def test_best_policy_is_the_cheapest_pair_by_exact_enumeration(lead_time, unmet, target):
     # Brute force over the whole grid with the literal fraction chain (tests/walkmath/exact.py).
-    holding, order_cost, penalty = Fraction(1), Fraction(6), Fraction(9)
+    # Prices chosen so that the cheapest pair is unique on every case (checked below): a rational tie
+    # would let rounding pick either pair.
+    holding, order_cost, penalty = Fraction(1), Fraction(5), Fraction(11)
     top, largest_gap = 7, 7
     choice = best_policy(
         SACKS_LAW,
         holding=1.0,
-        order_cost=6.0,
-        shortage_penalty=9.0,
+        order_cost=5.0,
+        shortage_penalty=11.0,
         lead_time=lead_time,
         unmet=unmet,
         target=target,
@@ -97,7 +99,9 @@ def test_best_policy_is_the_cheapest_pair_by_exact_enumeration(lead_time, unmet,
             if target is not None and exact_service(s, big_s, lead_time, unmet, "cycle") < Fraction(target):
                 continue
             candidates.append((exact_cost(s, big_s, lead_time, unmet, holding, order_cost, penalty), big_s, s))
-    cost, big_s, s = min(candidates)
+    candidates.sort()
+    cost, big_s, s = candidates[0]
+    assert candidates[1][0] > cost * (1 + Fraction(1, 10**6))
     assert (choice.reorder_level, choice.order_up_to) == (s, big_s)
     assert choice.cost == pytest.approx(float(cost), rel=1e-13)
     assert choice.feasible.sum() == len(candidates)
