@@ -119,12 +119,13 @@ class _Shared:
     def drops(self, gaps):
         """Yield (gap, drop law W, orders per period) for increasing gaps, each from the one before."""
         sums = np.zeros(self.lead.size + int(max(gaps)))
+        totals = np.cumsum(self.renewal)  # non-negative terms: relative error a few ulps per term at most
         done = 0
         for gap in gaps:
             for j in range(done, gap):  # add the shifted copies for positions S - j
                 sums[j : j + self.lead.size] += self.renewal[j] * self.lead
             done = gap
-            total = math.fsum(self.renewal[:gap])
+            total = totals[gap - 1]
             position = self.renewal[:gap] / total
             yield (
                 gap,
@@ -132,7 +133,7 @@ class _Shared:
                 orders_per_review(position, self.tables),
             )
 
-    def curves(self, gap: int, drop: np.ndarray, levels: np.ndarray) -> dict[str, np.ndarray]:
+    def curves(self, drop: np.ndarray, levels: np.ndarray) -> dict[str, np.ndarray]:
         return measure_curves(drop, end_drop_law(drop, self.demand), self.tables, levels, self.unmet)
 
     def chain_curves(self, gap: int, levels: np.ndarray) -> tuple[dict[str, np.ndarray], np.ndarray]:
@@ -214,7 +215,7 @@ def smallest_order_up_to(
     shared = _Shared(demand, lead_time, unmet, top, gap)
     if shared.shared:
         _, drop, orders = next(shared.drops([gap]))
-        curves = shared.curves(gap, drop, levels)
+        curves = shared.curves(drop, levels)
         orders = np.full(levels.size, orders)
     else:
         curves, orders = shared.chain_curves(gap, levels)
@@ -246,8 +247,8 @@ def smallest_reorder_level(
     level = np.array([order_up_to])
     rows, orders = [], []
     if shared.shared:
-        for gap, drop, ordered in shared.drops(range(1, order_up_to + 1)):
-            rows.append(shared.curves(gap, drop, level))
+        for _gap, drop, ordered in shared.drops(range(1, order_up_to + 1)):
+            rows.append(shared.curves(drop, level))
             orders.append(ordered)
     else:
         for gap in range(1, order_up_to + 1):
@@ -343,7 +344,7 @@ def best_policy(
         if drop is None:
             curves, orders = shared.chain_curves(gap, levels)
         else:
-            curves, orders = shared.curves(gap, drop, levels), np.full(levels.size, ordered)
+            curves, orders = shared.curves(drop, levels), np.full(levels.size, ordered)
         cost = holding * curves["mean_on_hand"] + order_cost * orders + shortage_penalty * curves["mean_short"]
         columns["s"].append(levels - gap)
         columns["S"].append(levels)
