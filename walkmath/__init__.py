@@ -21,7 +21,18 @@ from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
+from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
+from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
+from walkmath.service import (
+    ReorderPointPlan,
+    expected_shortage,
+    fill_rate,
+    normal_loss,
+    protection_demand,
+    reorder_point_plan,
+    unfilled_share,
+)
 from walkmath.sizing import CapacityRisk
 from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
@@ -34,29 +45,44 @@ __all__ = [
     "CapacityRisk",
     "ComputeTooLarge",
     "LevelDistribution",
+    "LevelSearch",
     "LongOutlook",
     "MeanTime",
     "MonteCarloOutlook",
     "Outlook",
+    "PeriodicReview",
+    "PolicyChoice",
+    "PolicyMeasures",
+    "ReorderPointPlan",
     "SparesPool",
     "StartRisk",
     "StepLaw",
+    "StockoutRisk",
     "TransientLaw",
     "WORK_CAP",
     "Work",
+    "best_policy",
     "brownian_first_passage",
     "checks",
     "continuous_level_distribution",
     "expected_duration",
+    "expected_shortage",
+    "fill_rate",
     "first_stockout_times",
     "law_power",
     "lead_time_demand",
     "level_distribution",
     "monte_carlo_outlook",
     "normal_level_distribution",
+    "normal_loss",
     "normal_stockout_curve",
+    "protection_demand",
     "reorder_point",
+    "reorder_point_plan",
     "ruin_probability",
     "safety_stock",
+    "smallest_order_up_to",
+    "smallest_reorder_level",
+    "unfilled_share",
     "wilson_interval",
 ]

@@ -1,0 +1,193 @@
+"""The periodic-review stock chain with its order pipeline, and GTH state reduction.
+
+State at a review, before ordering: (on hand I, orders still due, oldest first).
+The rules are the design notes' (section 3): at a review with stock position
+I + (orders due) at or below the reorder level s, order up to S; an order
+placed at a review arrives L periods later, before that period's demand (at
+once when L = 0); then the period's demand is served from stock on hand, the
+unmet part lost. While no stock-out has happened the on-hand stock never goes
+below 0, so the same chain gives the first stock-out time under both rules.
+
+Steady state by GTH state reduction (Grassmann, Taksar and Heyman, "Regenerative
+analysis and steady state distributions for Markov chains", Operations Research
+33, 1985): Gaussian elimination in which every pivot is a sum of off-diagonal
+probabilities rather than 1 - p_kk, so no step subtracts and the long-run law
+keeps its relative accuracy entrywise.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import deque
+
+import numpy as np
+from scipy import sparse
+from scipy.sparse import csgraph
+
+from walkmath.cost import Work
+
+# Cost of one (state, demand) step of the Python state search, in work units (about 1 microsecond).
+SEARCH_STEP = 5_000
+
+
+def state_bound(top: int, lead_time: int, order_up_to: int, gap: int) -> int:
+    """Upper bound on the states (on hand, L - 1 orders due) reachable from at most ``top`` on hand.
+
+    On hand is 0..top; every order is at least the gap S - s and the orders due
+    sum to at most S, so at most min(L - 1, S // gap) of them are not 0; k such
+    orders with sum <= S can be chosen in C(S - k gap + k, k) ways. The position
+    (on hand plus orders due) is at most top, which bounds the count by
+    C(top + L, L) as well.
+    """
+    slots = max(lead_time - 1, 0)
+    due = sum(
+        math.comb(slots, k) * math.comb(order_up_to - k * gap + k, k) for k in range(min(slots, order_up_to // gap) + 1)
+    )
+    parts = max(lead_time, 1)  # on hand and the orders due also sum to at most top
+    return min((top + 1) * due, math.comb(top + parts, parts))
+
+
+def chain_work(method: str, states: int, jumps: int, horizon: int = 0) -> Work:
+    """The state search over at most ``states`` states and ``horizon`` sparse sweeps over them.
+
+    The GTH solve is priced separately on the closed class actually found (``gth_work``).
+    """
+    return Work(method, states, horizon, jumps, dense=states * jumps * SEARCH_STEP, knob=_KNOB)
+
+
+def gth_work(states: int) -> Work:
+    """GTH on a dense closed class: about n^3 / 3 multiply-adds."""
+    return Work("steady_state", states, 1, 1, copies=0, dense=states**3 // 3, knob=_KNOB)
+
+
+_KNOB = "lower the order-up-to level, shorten the lead time or coarsen the demand units"
+
+
+class ReviewChain:
+    """The pipeline chain from one start, its states found by breadth-first search.
+
+    ``transitions`` is a sparse matrix of the moves that end without a stock-out;
+    ``stockout`` the probability that the period from each state has one;
+    ``available`` the stock on hand when the period's demand comes.
+    """
+
+    def __init__(
+        self,
+        demand_probs: np.ndarray,
+        reorder_level: int,
+        order_up_to: int,
+        lead_time: int,
+        start: tuple[int, ...],
+        *,
+        shortage_moves: bool = False,
+    ):
+        self.reorder_level, self.order_up_to, self.lead_time = reorder_level, order_up_to, lead_time
+        support = np.flatnonzero(demand_probs > 0)
+        weights = demand_probs[support]
+        above = np.append(np.cumsum(demand_probs[::-1])[::-1][1:], 0.0)  # P(D > k), tail sums
+        index = {start: 0}
+        states = [start]
+        moves: list[tuple[int, int, float]] = []
+        short: list[tuple[int, int, float]] = []
+        ended, kept, ordering = [], [], []
+
+        def visit(nxt) -> int:
+            if nxt not in index:
+                index[nxt] = len(states)
+                states.append(nxt)
+                queue.append(nxt)
+            return index[nxt]
+
+        queue = deque([start])
+        while queue:
+            state = queue.popleft()
+            here = index[state]
+            on_hand, due = state[0], state[1:]
+            position = on_hand + sum(due)
+            order = order_up_to - position if position <= reorder_level else 0
+            available = on_hand + order if lead_time == 0 else on_hand
+            ends = float(above[available]) if available < above.size else 0.0
+            ended.append(ends)
+            kept.append(available)
+            ordering.append(order > 0)
+            served = support <= available
+            for units, p in zip(support[served].tolist(), weights[served].tolist(), strict=True):
+                moves.append((here, visit(self._next(available - units, due, order)), p))
+            if shortage_moves and ends > 0:  # lost sales: the stock-out leaves nothing on hand
+                short.append((here, visit(self._next(0, due, order)), ends))
+        size = len(states)
+        self.states = states
+        self.transitions = _matrix(moves, size)
+        self.shortage_transitions = _matrix(short, size)
+        self.stockout = np.array(ended)
+        self.available = np.array(kept)
+        self.ordering = np.array(ordering)
+
+    def _next(self, left: int, due: tuple[int, ...], order: int) -> tuple[int, ...]:
+        """The state at the next review: what is left, plus the order arriving then."""
+        if self.lead_time == 0:
+            return (left,)
+        if self.lead_time == 1:
+            return (left + order,)
+        return (left + due[0], *due[1:], order)
+
+    def stockout_curve(self, horizon: int) -> tuple[np.ndarray, np.ndarray]:
+        """P(a stock-out in periods 1..n) and P(none), n = 0..horizon, each summed from its own side.
+
+        The stopped mass accumulates as a sum of non-negative terms; the surviving
+        mass is the sum of the live state probabilities (never 1 - risk).
+        """
+        mass = np.zeros(len(self.states))
+        mass[0] = 1.0
+        risk, alive = np.zeros(horizon + 1), np.ones(horizon + 1)
+        moves = self.transitions.T.tocsr()
+        total = 0.0
+        for period in range(1, horizon + 1):
+            total += float(mass @ self.stockout)
+            mass = moves @ mass
+            risk[period], alive[period] = min(total, 1.0), min(math.fsum(mass), 1.0)
+        return risk, alive
+
+
+def _matrix(entries: list[tuple[int, int, float]], size: int) -> sparse.csr_matrix:
+    if not entries:
+        return sparse.csr_matrix((size, size))
+    rows, cols, values = zip(*entries, strict=True)
+    return sparse.csr_matrix((values, (rows, cols)), shape=(size, size))  # duplicates are summed
+
+
+def closed_class(matrix: sparse.csr_matrix) -> np.ndarray:
+    """Indices of the single closed communicating class of a chain's move graph.
+
+    Raises if there is not exactly one (then the long run would depend on the start).
+    """
+    count, labels = csgraph.connected_components(matrix, directed=True, connection="strong")
+    graph = matrix.tocoo()
+    leaving = np.zeros(count, dtype=bool)
+    crossing = labels[graph.row] != labels[graph.col]
+    leaving[labels[graph.row[crossing]]] = True
+    closed = np.flatnonzero(~leaving)
+    if closed.size != 1:
+        raise ValueError(f"the stock chain has {closed.size} closed classes; its long run depends on the start")
+    return np.flatnonzero(labels == closed[0])
+
+
+def gth_steady_state(matrix: np.ndarray) -> np.ndarray:
+    """Stationary law of an irreducible stochastic matrix by GTH state reduction (subtraction-free).
+
+    O(n^3 / 3) multiply-adds on a dense copy; the diagonal is never read, so
+    rows need only be stochastic off the diagonal up to rounding.
+    """
+    work = np.array(matrix, dtype=float)
+    size = work.shape[0]
+    for k in range(size - 1, 0, -1):
+        pivot = math.fsum(work[k, :k])  # probability of leaving k downwards: a sum, never 1 - p_kk
+        if pivot <= 0:
+            raise ValueError("the stock chain is not irreducible on its closed class")
+        work[:k, k] /= pivot
+        work[:k, :k] += np.outer(work[:k, k], work[k, :k])
+    weights = np.zeros(size)
+    weights[0] = 1.0
+    for k in range(1, size):
+        weights[k] = math.fsum(weights[:k] * work[:k, k])
+    return weights / math.fsum(weights)

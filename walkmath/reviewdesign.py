@@ -1,0 +1,404 @@
+"""Design of a periodic-review (s, S) policy: the smallest levels meeting a service target, the cheapest pair.
+
+Every solver returns its answer with the whole decision-against-service curve,
+built from shared pieces rather than one policy solve per candidate:
+
+* the renewal weights u(0..G-1) of the position law (walkmath/policy.py) are
+  one sequence for every gap S - s up to G: the law for gap g is u(0..g-1)
+  normalised, so widening the gap adds one term;
+* the lead-time demand is built once; the drop W = (S - y) + lead-time demand
+  for gap g + 1 is the one for g plus one shifted copy (non-negative additions);
+* for a fixed gap, every order-up-to level S reads the same drop law, and each
+  measure over all S is one direct convolution with a one-period demand table.
+
+Lost sales with a lead time have no such shared form (the pipeline chain
+changes with S); there each candidate is one priced chain solve.
+
+Service measures: "cycle" = P(no stock-out in a period), "fill" = fill rate.
+Cost per period = holding x mean on hand + order cost x orders per period +
+shortage penalty x mean units short (demand not served from stock).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from walkmath import checks
+from walkmath.cost import Work
+from walkmath.leadtime import lead_time_demand
+from walkmath.policy import (
+    LEAD_CAP,
+    LEVEL_CAP,
+    UNMET_RULES,
+    DemandTables,
+    PeriodicReview,
+    PolicyMeasures,
+    _count_law,
+    end_drop_law,
+    measure_curves,
+    orders_per_review,
+    renewal_weights,
+)
+from walkmath.reviewchain import chain_work, gth_work, state_bound
+from walkmath.steplaw import StepLaw
+
+MEASURES = ("cycle", "fill")
+# Largest holding, order or shortage price accepted (any money unit).
+PRICE_CAP = 1e12
+# Unfilled share of the backorder policy at the default search edge for lost sales with a lead time.
+LOST_EDGE = 1e-9
+_SERVICE = {"cycle": ("in_stock_probability", "stockout_probability"), "fill": ("fill_rate", "unfilled_share")}
+_KNOB = "lower top (the largest order-up-to level searched), the largest gap, or coarsen the demand units"
+
+
+@dataclass(frozen=True, eq=False)
+class LevelSearch:
+    """Smallest level meeting a service target and the service at every candidate level.
+
+    ``levels`` are the candidates (order-up-to levels S, or reorder levels s);
+    ``service[i]`` the measure there, ``shortfall[i]`` its complement from its own
+    side; ``stockout``, ``fill_rate``, ``mean_on_hand``, ``orders_per_period`` the
+    other measures at each candidate. ``answer`` is None when no candidate meets
+    the target.
+    """
+
+    measure: str
+    target: float
+    answer: int | None
+    levels: np.ndarray
+    service: np.ndarray
+    shortfall: np.ndarray
+    stockout: np.ndarray
+    fill_rate: np.ndarray
+    mean_on_hand: np.ndarray
+    orders_per_period: np.ndarray
+
+
+@dataclass(frozen=True, eq=False)
+class PolicyChoice:
+    """Cheapest (s, S) on the searched grid, every candidate's cost and service, and the best cost by S.
+
+    ``reorder_levels[i], order_up_to_levels[i]`` list the candidates with their
+    ``cost``, ``service``, ``shortfall`` and ``feasible`` (meets the service
+    target, if any). ``curve_order_up_to[k]``: the best feasible cost
+    ``curve_cost[k]`` with that S, reached at ``curve_reorder_level[k]``.
+    """
+
+    reorder_level: int | None
+    order_up_to: int | None
+    cost: float | None
+    measures: PolicyMeasures | None
+    reorder_levels: np.ndarray
+    order_up_to_levels: np.ndarray
+    costs: np.ndarray
+    service: np.ndarray
+    shortfall: np.ndarray
+    feasible: np.ndarray
+    curve_order_up_to: np.ndarray
+    curve_reorder_level: np.ndarray
+    curve_cost: np.ndarray
+
+
+# -- shared pieces -----------------------------------------------------------------------------------------
+
+
+class _Shared:
+    """The lead-time demand, the demand tables and the renewal weights, built once for a search."""
+
+    def __init__(self, demand: StepLaw, lead_time: int, unmet: str, top: int, largest_gap: int):
+        self.demand, self.lead_time, self.unmet, self.top = demand, lead_time, unmet, top
+        self.tables = DemandTables(demand, top)
+        self.shared = unmet == "backorder" or lead_time == 0
+        if self.shared:
+            self.lead = lead_time_demand(demand, lead_time).probs if lead_time else np.ones(1)
+            self.renewal = renewal_weights(demand, largest_gap)
+
+    def drops(self, gaps):
+        """Yield (gap, drop law W, orders per period) for increasing gaps, each from the one before."""
+        sums = np.zeros(self.lead.size + int(max(gaps)))
+        totals = np.cumsum(self.renewal)  # non-negative terms: relative error a few ulps per term at most
+        done = 0
+        for gap in gaps:
+            for j in range(done, gap):  # add the shifted copies for positions S - j
+                sums[j : j + self.lead.size] += self.renewal[j] * self.lead
+            done = gap
+            total = totals[gap - 1]
+            position = self.renewal[:gap] / total
+            yield (
+                gap,
+                np.minimum(sums[: gap + self.lead.size - 1] / total, 1.0),
+                orders_per_review(position, self.tables),
+            )
+
+    def curves(self, drop: np.ndarray, levels: np.ndarray) -> dict[str, np.ndarray]:
+        return measure_curves(drop, end_drop_law(drop, self.demand), self.tables, levels, self.unmet)
+
+    def chain_curves(self, gap: int, levels: np.ndarray) -> tuple[dict[str, np.ndarray], np.ndarray]:
+        """Lost sales with a lead time: one pipeline chain solve per level (no shared form)."""
+        rows = [PeriodicReview(self.demand, int(S) - gap, int(S), self.lead_time, "lost").measures() for S in levels]
+        names = [name for name in PolicyMeasures.__dataclass_fields__ if name != "orders_per_period"]
+        curves = {name: np.array([getattr(row, name) for row in rows]) for name in names}
+        return curves, np.array([row.orders_per_period for row in rows])
+
+
+def _search_work(method: str, demand: StepLaw, lead_time: int, unmet: str, top: int, gaps: int, per_gap: int) -> Work:
+    if unmet == "lost" and lead_time > 0:
+        # Per candidate: the state search and GTH, both on the state bound of the largest chain (gap 1, S = top).
+        states = state_bound(top, lead_time, top, 1)
+        each = chain_work(method, states, demand.probs.size).units + gth_work(states).units
+        return Work(
+            method, states, gaps * per_gap, demand.probs.size, copies=0, dense=each * gaps * per_gap, knob=_KNOB
+        )
+    lead_levels = lead_time * demand.highest + 1
+    return Work(method, top + gaps + lead_levels, gaps, 7 * (top + 1) + lead_levels, knob=_KNOB)
+
+
+def _meets(service: np.ndarray, shortfall: np.ndarray, target: float) -> np.ndarray:
+    # Above 1/2 decide on the shortfall side, where 1 - target is exact (no cancellation).
+    return service >= target if target <= 0.5 else shortfall <= 1.0 - target
+
+
+def _common(demand, target, measure, lead_time, unmet):
+    demand = _count_law(demand)
+    target = checks.open_probability("target", target)
+    measure = checks.choice("measure", measure, MEASURES)
+    lead_time = checks.whole("lead_time", lead_time, minimum=0, maximum=LEAD_CAP)
+    unmet = checks.choice("unmet", unmet, UNMET_RULES)
+    return demand, target, measure, lead_time, unmet
+
+
+def _default_top(demand: StepLaw, lead_time: int, unmet: str, gap: int) -> int:
+    """Largest S searched by default.
+
+    Shared forms: an S at which no stock-out can happen, S - (gap - 1) - L x max
+    demand >= max demand (cheap, so the search is complete). Lost sales with a lead
+    time (one chain per candidate): the smallest S whose backorder policy with the
+    same gap fills all but 1e-9 of demand, a heuristic edge the curves let one check.
+    """
+    certain = gap - 1 + (lead_time + 1) * demand.highest
+    if unmet == "backorder" or lead_time == 0:
+        return certain
+    return smallest_order_up_to(demand, 1.0 - LOST_EDGE, "fill", lead_time, "backorder", gap=gap).answer or certain
+
+
+# -- smallest order-up-to level ----------------------------------------------------------------------------------
+
+
+def smallest_order_up_to(
+    demand: StepLaw,
+    target: float,
+    measure: str = "cycle",
+    lead_time: int = 0,
+    unmet: str = "lost",
+    gap: int = 1,
+    top: int | None = None,
+) -> LevelSearch:
+    """Smallest S (with s = S - ``gap``; gap 1 is an order-up-to policy) whose long-run service meets ``target``.
+
+    Candidates S = gap..top; ``top`` defaults to a level where no stock-out can
+    happen, so an answer always exists then (lost sales with a lead time: see
+    ``_default_top``; the answer is None if the target is not met by then). One drop law, one convolution per
+    measure over all S (exact up to rounding, curves monotone in S).
+    """
+    demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
+    gap = checks.whole("gap", gap, minimum=1, maximum=LEVEL_CAP)
+    top = (
+        _default_top(demand, lead_time, unmet, gap)
+        if top is None
+        else checks.whole("top", top, minimum=gap, maximum=LEVEL_CAP)
+    )
+    levels = np.arange(gap, top + 1)
+    _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size).check()
+    shared = _Shared(demand, lead_time, unmet, top, gap)
+    if shared.shared:
+        _, drop, orders = next(shared.drops([gap]))
+        curves = shared.curves(drop, levels)
+        orders = np.full(levels.size, orders)
+    else:
+        curves, orders = shared.chain_curves(gap, levels)
+        curves = _monotone(curves)
+    return _level_search(measure, target, levels, curves, orders)
+
+
+# -- smallest reorder level ----------------------------------------------------------------------------------------
+
+
+def smallest_reorder_level(
+    demand: StepLaw,
+    order_up_to: int,
+    target: float,
+    measure: str = "cycle",
+    lead_time: int = 0,
+    unmet: str = "lost",
+) -> LevelSearch:
+    """Smallest reorder level s in 0..S-1, for a given S, whose long-run service meets ``target``.
+
+    A higher s orders sooner, so service grows with s. The drop laws for gaps
+    S - s = 1..S come one from the other (one shifted copy each); each is read at
+    the one level S by dot products. Curves monotone in s.
+    """
+    demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
+    order_up_to = checks.whole("order_up_to", order_up_to, minimum=1, maximum=LEVEL_CAP)
+    _search_work("smallest_reorder_level", demand, lead_time, unmet, order_up_to, order_up_to, 1).check()
+    shared = _Shared(demand, lead_time, unmet, order_up_to, order_up_to)
+    level = np.array([order_up_to])
+    rows, orders = [], []
+    if shared.shared:
+        for _gap, drop, ordered in shared.drops(range(1, order_up_to + 1)):
+            rows.append(shared.curves(drop, level))
+            orders.append(ordered)
+    else:
+        for gap in range(1, order_up_to + 1):
+            curves, ordered = shared.chain_curves(gap, level)
+            rows.append(curves)
+            orders.append(float(ordered[0]))
+    # Gaps 1..S are reorder levels S-1..0: reverse so that levels run upwards.
+    curves = {name: np.array([row[name][0] for row in rows[::-1]]) for name in rows[0]}
+    levels = np.arange(0, order_up_to)
+    return _level_search(measure, target, levels, _monotone(curves), np.array(orders[::-1]))
+
+
+def _monotone(curves: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+    """Service grows along the candidates; each is computed on its own, so rounding ripples are removed."""
+    for name in ("stockout_probability", "unfilled_share"):
+        curves[name] = np.minimum.accumulate(curves[name])
+    for name in ("in_stock_probability", "fill_rate"):
+        curves[name] = np.maximum.accumulate(curves[name])
+    return curves
+
+
+def _level_search(measure, target, levels, curves, orders) -> LevelSearch:
+    good, bad = _SERVICE[measure]
+    service, shortfall = curves[good], curves[bad]
+    hits = np.flatnonzero(_meets(service, shortfall, target))
+    return LevelSearch(
+        measure=measure,
+        target=target,
+        answer=int(levels[hits[0]]) if hits.size else None,
+        levels=levels,
+        service=service,
+        shortfall=shortfall,
+        stockout=curves["stockout_probability"],
+        fill_rate=curves["fill_rate"],
+        mean_on_hand=curves["mean_on_hand"],
+        orders_per_period=orders,
+    )
+
+
+# -- cheapest (s, S) --------------------------------------------------------------------------------------------------
+
+
+def best_policy(
+    demand: StepLaw,
+    *,
+    holding: float,
+    order_cost: float,
+    shortage_penalty: float = 0.0,
+    lead_time: int = 0,
+    unmet: str = "lost",
+    target: float | None = None,
+    measure: str = "cycle",
+    top: int | None = None,
+    largest_gap: int | None = None,
+) -> PolicyChoice:
+    """Cheapest (s, S) per period on the grid 0 <= s < S <= top, S - s <= largest_gap; optional service target.
+
+    Cost = holding x mean on hand + order_cost x orders per period +
+    shortage_penalty x mean units short. ``top`` defaults to a level with no
+    stock-outs at the largest gap (see ``_default_top``); ``largest_gap`` to three economic order
+    quantities sqrt(2 K E[D] / h) (common practice) and at least 10. The best is
+    exact on that grid; the cost curves show whether the grid's edge binds.
+    """
+    demand = _count_law(demand)
+    holding = _price("holding", holding, positive=True)
+    order_cost = _price("order_cost", order_cost)
+    shortage_penalty = _price("shortage_penalty", shortage_penalty)
+    lead_time = checks.whole("lead_time", lead_time, minimum=0, maximum=LEAD_CAP)
+    unmet = checks.choice("unmet", unmet, UNMET_RULES)
+    measure = checks.choice("measure", measure, MEASURES)
+    if target is not None:
+        target = checks.open_probability("target", target)
+    if largest_gap is None:
+        economic = math.sqrt(2.0 * order_cost * demand.mean / holding)
+        largest_gap = max(10, math.ceil(3.0 * economic))
+        if top is not None:
+            largest_gap = min(largest_gap, top)
+    largest_gap = checks.whole("largest_gap", largest_gap, minimum=1, maximum=LEVEL_CAP)
+    top = (
+        _default_top(demand, lead_time, unmet, largest_gap)
+        if top is None
+        else checks.whole("top", top, minimum=1, maximum=LEVEL_CAP)
+    )
+    largest_gap = min(largest_gap, top)
+    _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top).check()
+    shared = _Shared(demand, lead_time, unmet, top, largest_gap)
+    good, bad = _SERVICE[measure]
+    columns: dict[str, list] = {"s": [], "S": [], "cost": [], "service": [], "shortfall": []}
+    gaps = range(1, largest_gap + 1)
+    pieces = shared.drops(gaps) if shared.shared else ((gap, None, None) for gap in gaps)
+    for gap, drop, ordered in pieces:
+        levels = np.arange(gap, top + 1)
+        if drop is None:
+            curves, orders = shared.chain_curves(gap, levels)
+        else:
+            curves, orders = shared.curves(drop, levels), np.full(levels.size, ordered)
+        cost = holding * curves["mean_on_hand"] + order_cost * orders + shortage_penalty * curves["mean_short"]
+        columns["s"].append(levels - gap)
+        columns["S"].append(levels)
+        columns["cost"].append(cost)
+        columns["service"].append(curves[good])
+        columns["shortfall"].append(curves[bad])
+    table = {name: np.concatenate(values) for name, values in columns.items()}
+    feasible = np.ones(table["cost"].size, dtype=bool)
+    if target is not None:
+        feasible = _meets(table["service"], table["shortfall"], target)
+    return _choice(demand, lead_time, unmet, table, feasible)
+
+
+def _price(name: str, value, positive: bool = False) -> float:
+    """A money rate per unit-period, per order or per unit short: finite, at most ``PRICE_CAP``."""
+    low = "above 0" if positive else "at least 0"
+    message = f"{name} must be a finite number {low} and at most {PRICE_CAP:g}; got {value!r}"
+    try:
+        price = checks.real(name, value, minimum=0.0, maximum=PRICE_CAP, strict_minimum=positive)
+    except ValueError:
+        raise ValueError(message) from None
+    return price
+
+
+def _choice(demand, lead_time, unmet, table, feasible) -> PolicyChoice:
+    order = np.lexsort((table["s"], table["S"]))
+    table = {name: values[order] for name, values in table.items()}
+    feasible = feasible[order]
+    curve_s, curve_big_s, curve_cost = [], [], []
+    for level in np.unique(table["S"][feasible]):
+        rows = np.flatnonzero(feasible & (table["S"] == level))
+        best = rows[np.argmin(table["cost"][rows])]
+        curve_big_s.append(int(level))
+        curve_s.append(int(table["s"][best]))
+        curve_cost.append(float(table["cost"][best]))
+    if feasible.any():
+        rows = np.flatnonzero(feasible)
+        best = rows[np.argmin(table["cost"][rows])]  # ties: the smallest S, then the smallest s
+        s, big_s, cost = int(table["s"][best]), int(table["S"][best]), float(table["cost"][best])
+        measures = PeriodicReview(demand, s, big_s, lead_time, unmet).measures()
+    else:
+        s = big_s = cost = measures = None
+    return PolicyChoice(
+        reorder_level=s,
+        order_up_to=big_s,
+        cost=cost,
+        measures=measures,
+        reorder_levels=table["s"],
+        order_up_to_levels=table["S"],
+        costs=table["cost"],
+        service=table["service"],
+        shortfall=table["shortfall"],
+        feasible=feasible,
+        curve_order_up_to=np.array(curve_big_s, dtype=int),
+        curve_reorder_level=np.array(curve_s, dtype=int),
+        curve_cost=np.array(curve_cost),
+    )
