@@ -40,10 +40,11 @@ WINDOW_FLOOR = 1e-4
 SUPPORT_CAP = checks.HORIZON_CAP + 1
 # Work units (``walkmath.cost``: about 5e9 a second on one core) of the pieces priced below,
 # measured on this machine kind. One scipy special-function evaluation (a binomial pmf term,
-# about 200 ns); one tilted window's fixed cost (root finding for its tilt, about 0.5 ms); its
+# about 300 ns); one tilted window's fixed cost (root finding for its tilt, about 0.5 ms); its
 # cost per jump of the law (compensated sums of the tilted law, about 4 microseconds); and one FFT
-# power (forward, power, inverse) per n log2 n of its length.
-EVALUATION_UNITS = 1_000
+# power (forward, power, inverse) per n log2 n of its length. The evaluation price (300 ns) includes
+# the array work around each term; it measured 190-360 ns on a shared two-core machine.
+EVALUATION_UNITS = 1_500
 WINDOW_UNITS = 2_500_000
 WINDOW_JUMP_UNITS = 20_000
 FFT_UNITS = 15
