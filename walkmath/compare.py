@@ -21,7 +21,7 @@ from scipy import special, stats
 from walkmath import checks
 from walkmath.checks import ABOVE_RULES, BELOW_RULES
 from walkmath.cost import Work
-from walkmath.distribution import LevelDistribution
+from walkmath.distribution import EVALUATION_UNITS, LevelDistribution
 from walkmath.steplaw import as_cycle
 
 # Paths simulated together: a handful of arrays of this length live at once
@@ -63,6 +63,7 @@ def normal_level_distribution(law, steps: int, start: int = 0) -> LevelDistribut
             f"steps x step range must span at most {LEVELS_CAP:,} levels; got {highest - lowest + 1:,}. "
             "Shorten the steps or coarsen the units."
         )
+    _evaluations("normal_level_distribution", highest - lowest + 1, "shorten the steps or coarsen the units").check()
     levels = np.arange(lowest, highest + 1)
     return LevelDistribution(levels, _normal_bins(levels, mean, math.sqrt(variance)))
 
@@ -107,6 +108,7 @@ def normal_stockout_curve(law, start: int, low: int, horizon: int) -> np.ndarray
     if start < low:
         raise ValueError(f"start must be at least low ({low}); got {start}")
     horizon = checks.horizon(horizon)
+    _evaluations("normal_stockout_curve", horizon + 1, "shorten the horizon").check()
     drift = math.fsum(item.mean for item in laws) / len(laws)
     variance = math.fsum(item.variance for item in laws) / len(laws)
     curve = np.empty(horizon + 1)
@@ -218,6 +220,11 @@ def monte_carlo_outlook(
         seed=seed,
         confidence=confidence,
     )
+
+
+def _evaluations(method: str, count: int, knob: str) -> Work:
+    """Work of ``count`` normal-tail evaluations (a few special functions each, as one scipy term)."""
+    return Work(method, count, 1, 1, copies=0, dense=count * EVALUATION_UNITS, knob=knob)
 
 
 def monte_carlo_work(paths: int, horizon: int) -> Work:

@@ -103,7 +103,8 @@ def level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
 
 def law_power(law: StepLaw, times: int) -> tuple[int, np.ndarray]:
     """Lowest value and probabilities of the sum of ``times`` independent copies of ``law`` (work priced first)."""
-    (law,) = as_cycle(law)
+    if not isinstance(law, StepLaw):
+        raise ValueError(f"law must be a single StepLaw; got {type(law).__name__}")
     times = checks.horizon(times, "times")
     _plan((law,), times, "law_power")[0].check()
     return _power(law, times)
