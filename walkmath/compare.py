@@ -186,7 +186,7 @@ def monte_carlo_outlook(
     high = None if high is None else checks.level("high", high)
     if high is not None and high < low:
         raise ValueError(f"high (capacity) must be at least low ({low}); got {high}")
-    start = checks.whole("start", start)
+    start = checks.level("start", start)
     if start < low or (high is not None and start > high):
         upper = "" if high is None else f" and at most high ({high})"
         raise ValueError(f"start must be at least low ({low}){upper}; got {start}")
