@@ -84,7 +84,7 @@ def probability_vector(name: str, values) -> np.ndarray:
     weights = float_array(name, values, "probabilities between 0 and 1")
     if weights.ndim != 1 or weights.size == 0:
         raise ValueError(f"{name} must be a non-empty list of probabilities")
-    if not np.all(np.isfinite(weights)) or np.any(weights < 0):
+    if not np.all(np.isfinite(weights)) or np.any(weights < 0) or np.any(weights > 1.0 + SUM_TOLERANCE):
         raise ValueError(f"{name} must hold probabilities between 0 and 1")
     total = math.fsum(weights)
     if abs(total - 1.0) > SUM_TOLERANCE:

@@ -201,14 +201,16 @@ def _tilted_units(law: StepLaw, times: int) -> float:
     log_lo = _tilt_for_mean(law.probs, edge)
     log_hi = _tilt_for_mean(law.probs, width - 1 - edge)
     grid = np.linspace(log_lo, log_hi, PRICE_GRID)
-    offsets = np.arange(width)
+    offsets = np.arange(width, dtype=float)  # float: a mixed int-float dot product takes a slow loop
     support = law.probs > 0
     log_p = np.log(law.probs[support])
     offs = offsets[support]
     density = np.empty(PRICE_GRID)  # per unit of log theta: windows x cost of one window
     for index, log_theta in enumerate(grid):
-        weights = log_p + offs * log_theta
-        weights = np.exp(weights - weights.max())
+        exponents = log_p + offs * log_theta
+        exponents -= exponents.max()
+        exponents[exponents < -700.0] = -np.inf  # exact zeros: subnormal weights make the sums 100x slower
+        weights = np.exp(exponents)
         weights /= weights.sum()
         mean = float(weights @ offs)
         variance = max(float(weights @ (offs - mean) ** 2), 0.0)
@@ -311,7 +313,7 @@ def _offset_moments(probs: np.ndarray, times: int) -> tuple[float, float]:
 
 def _tilt_for_mean(probs: np.ndarray, mean_offset: float) -> float:
     """log theta making the tilted step mean (measured from the lowest step) equal ``mean_offset``."""
-    offsets = np.arange(probs.size)
+    offsets = np.arange(probs.size, dtype=float)  # float: a mixed int-float dot product takes a slow loop
     support = probs > 0
     log_p = np.log(probs[support])
     offs = offsets[support]

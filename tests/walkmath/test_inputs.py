@@ -36,6 +36,7 @@ BAD_INPUTS = [
     ("StepLaw probs empty", lambda: wm.StepLaw(0, []), ValueError, "probs"),
     ("StepLaw probs text", lambda: wm.StepLaw(0, ["a", "b"]), ValueError, "probs"),
     ("StepLaw probs huge int", lambda: wm.StepLaw(0, [10**400]), ValueError, "probs"),
+    ("StepLaw probs 1e308", lambda: wm.StepLaw(0, [1e308, 1e308]), ValueError, "probs"),
     ("StepLaw probs matrix", lambda: wm.StepLaw(0, [[0.5, 0.5]]), ValueError, "probs"),
     ("StepLaw too wide", lambda: wm.StepLaw(0, flat(MAX_JUMPS + 1)), ValueError, "MAX_JUMPS"),
     ("StepLaw lowest fraction", lambda: wm.StepLaw(0.5, [1.0]), ValueError, "lowest"),
