@@ -9,6 +9,7 @@ and the rest renormalised.
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
@@ -31,6 +32,9 @@ COUNT_TAIL = 1e-24
 # negative binomial (mean 1e4, variance 1e8) at 552,597. Wider laws could not be used anyway: one banded period over the
 # law's own width costs width**2 > 1e12 work units, fifty times ``walkmath.cost.WORK_CAP``.
 MAX_JUMPS = 2**20 + 1
+# Most observed values ``empirical`` reads one by one (a Python loop of about a second); larger
+# samples come as {value: count}.
+OBSERVATION_CAP = 1_000_000
 # Largest size of a single step (lowest and highest), so levels stay far inside int64.
 STEP_LIMIT = 10**9
 
@@ -101,9 +105,11 @@ class StepLaw:
     def from_pmf(cls, pmf: Mapping[int, float] | Iterable[tuple[int, float]]) -> StepLaw:
         """Any finite integer law given as ``{step: probability}``; steps within +-``STEP_LIMIT``,
         spanning at most ``MAX_JUMPS`` steps."""
-        items = list(pmf.items() if isinstance(pmf, Mapping) else pmf)
+        items = list(itertools.islice(pmf.items() if isinstance(pmf, Mapping) else pmf, MAX_JUMPS + 1))
         if not items:
             raise ValueError("step probabilities must name at least one step")
+        if len(items) > MAX_JUMPS:
+            raise ValueError(f"step probabilities must name at most {MAX_JUMPS:,} steps (MAX_JUMPS)")
         steps = [checks.whole("step", step, minimum=-STEP_LIMIT, maximum=STEP_LIMIT) for step, _ in items]
         if len(set(steps)) != len(steps):
             raise ValueError("step probabilities must name each step once")
@@ -161,7 +167,13 @@ class StepLaw:
         if isinstance(observations, Mapping):
             items = list(observations.items())
         else:
-            values = [checks.whole("observation", v, minimum=-STEP_LIMIT, maximum=STEP_LIMIT) for v in observations]
+            sized = hasattr(observations, "__len__") and len(observations) > OBSERVATION_CAP
+            values = [] if sized else itertools.islice(observations, OBSERVATION_CAP + 1)
+            values = [checks.whole("observation", v, minimum=-STEP_LIMIT, maximum=STEP_LIMIT) for v in values]
+            if sized or len(values) > OBSERVATION_CAP:
+                raise ValueError(
+                    f"observations must hold at most {OBSERVATION_CAP:,} values; pass {{value: count}} for more"
+                )
             values, counts = np.unique(np.array(values, dtype=np.int64), return_counts=True)
             items = list(zip(values.tolist(), counts.tolist(), strict=True))
         if not items:

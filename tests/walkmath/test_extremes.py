@@ -253,64 +253,103 @@ def test_lead_time_demand_and_reorder_point(make_demand, lead_time, service):
 
 # -- modules being rewritten elsewhere: the banded engine and gambler's ruin ---------------
 
-banded_laws = cached(
-    [
-        lambda: wm.StepLaw.nearest(0.3, 0.5),
-        lambda: wm.StepLaw.nearest(0.0, 1e-300),
-        lambda: wm.StepLaw.from_pmf({-1: 0.5, 0: 0.2, 2: 0.3}),
-        lambda: wm.StepLaw.from_pmf({-(10**9): 0.5, 1 - 10**9: 0.5}),
-        lambda: wm.StepLaw.poisson(1e6),
-        lambda: [wm.StepLaw.nearest(0.3, 0.3), wm.StepLaw.fixed(-2)],
-    ]
+
+class Walk:
+    """A BandedWalk's arguments, shown by hypothesis as the call that builds it."""
+
+    LAWS = {
+        "nearest(0.3, 0.5)": lambda: wm.StepLaw.nearest(0.3, 0.5),
+        "nearest(0, 1e-300)": lambda: wm.StepLaw.nearest(0.0, 1e-300),
+        "from_pmf({-1: .5, 0: .2, 2: .3})": lambda: wm.StepLaw.from_pmf({-1: 0.5, 0: 0.2, 2: 0.3}),
+        "from_pmf({-10**9: .5, 1 - 10**9: .5})": lambda: wm.StepLaw.from_pmf({-(10**9): 0.5, 1 - 10**9: 0.5}),
+        "poisson(1e6)": lambda: wm.StepLaw.poisson(1e6),
+        "[nearest(0.3, 0.3), fixed(-2)]": lambda: [wm.StepLaw.nearest(0.3, 0.3), wm.StepLaw.fixed(-2)],
+    }
+    _built: dict = {}
+
+    def __init__(self, law, start, low, high, below, above):
+        self.args = (law, start, low, high, below, above)
+
+    def __repr__(self):
+        law, *rest = self.args
+        return f"BandedWalk({law}, {', '.join(repr(a) for a in rest)})"
+
+    def build(self):
+        law, *rest = self.args
+        if law not in self._built:
+            self._built[law] = self.LAWS[law]()
+        return wm.BandedWalk(self._built[law], *rest)
+
+
+walks = st.builds(
+    Walk,
+    st.sampled_from(sorted(Walk.LAWS)),
+    levels,
+    levels,
+    st.one_of(st.none(), levels),
+    st.sampled_from(wm.checks.BELOW_RULES),
+    st.sampled_from(wm.checks.ABOVE_RULES),
 )
 band_horizons = st.one_of(st.sampled_from(EXTREME_COUNTS), st.integers(0, 30))
-rules = st.tuples(st.sampled_from(wm.checks.BELOW_RULES), st.sampled_from(wm.checks.ABOVE_RULES))
 
 
-@st.composite
-def banded_walks(draw):
-    make_law = draw(banded_laws)
-    low = draw(levels)
-    high = draw(st.one_of(st.none(), levels))
-    start = draw(levels)
-    below, above = draw(rules)
-    return lambda: wm.BandedWalk(make_law(), start, low, high, below, above)
+def walk_or_none(spec: Walk):
+    return answer_or_refusal(spec.build)
 
 
 @EXAMPLES
-@given(banded_walks(), band_horizons, probabilities)
-def test_banded_walk_answers(make_walk, horizon, target):
-    walk = answer_or_refusal(make_walk)
-    if walk is None:
-        return
-    outlook = answer_or_refusal(lambda: walk.outlook(horizon))
-    if outlook is not None:
+@given(walks, band_horizons)
+def test_banded_walk_outlook(spec, horizon):
+    walk = walk_or_none(spec)
+    outlook = walk and answer_or_refusal(lambda: walk.outlook(horizon))
+    if outlook:
         for curve in (outlook.stockout, outlook.overflow, outlook.alive, outlook.final.probs):
             assert_probabilities(curve)
-    by_start = answer_or_refusal(lambda: walk.risk_by_start(horizon))
-    if by_start is not None:
+
+
+@EXAMPLES
+@given(walks, band_horizons)
+def test_banded_walk_risk_by_start(spec, horizon):
+    walk = walk_or_none(spec)
+    by_start = walk and answer_or_refusal(lambda: walk.risk_by_start(horizon))
+    if by_start:
         assert_probabilities(by_start.stockout)
         assert_probabilities(by_start.overflow)
-    start = answer_or_refusal(lambda: walk.smallest_start(horizon, target))
+
+
+@EXAMPLES
+@given(walks, band_horizons, probabilities)
+def test_banded_walk_smallest_start(spec, horizon, target):
+    walk = walk_or_none(spec)
+    start = walk and answer_or_refusal(lambda: walk.smallest_start(horizon, target))
     assert start is None or walk.low <= start
-    capacity = answer_or_refusal(lambda: walk.smallest_capacity(horizon, target))
+
+
+@EXAMPLES
+@given(walks, band_horizons, probabilities)
+def test_banded_walk_smallest_capacity(spec, horizon, target):
+    walk = walk_or_none(spec)
+    capacity = walk and answer_or_refusal(lambda: walk.smallest_capacity(horizon, target))
     assert capacity is None or capacity >= walk.start
-    at = answer_or_refusal(lambda: walk.outlook_at([horizon]))
-    if at is not None:
+
+
+@EXAMPLES
+@given(walks, band_horizons)
+def test_banded_walk_outlook_at(spec, horizon):
+    walk = walk_or_none(spec)
+    at = walk and answer_or_refusal(lambda: walk.outlook_at([horizon]))
+    if at:
         assert_probabilities(at.stockout)
         assert_probabilities(at.overflow)
 
 
 @EXAMPLES
-@given(banded_walks())
-def test_banded_walk_mean_times(make_walk):
-    walk = answer_or_refusal(make_walk)
-    if walk is None:
-        return
-    for mean in (lambda: walk.mean_periods_to_stockout(), lambda: walk.mean_periods_to_exit()):
-        value = answer_or_refusal(mean)
-        if value is not None:
-            assert_mean(value)
+@given(walks)
+def test_banded_walk_mean_periods_to_stockout(spec):
+    walk = walk_or_none(spec)
+    value = walk and answer_or_refusal(walk.mean_periods_to_stockout)
+    if value is not None:
+        assert_mean(value)
 
 
 @EXAMPLES

@@ -7,6 +7,7 @@ names the parameter (or, for the caps, the knob to turn). A ``ComputeTooLarge`` 
 the subclass itself.
 """
 
+import itertools
 import math
 
 import numpy as np
@@ -14,7 +15,7 @@ import pytest
 
 import walkmath as wm
 from walkmath.cost import ComputeTooLarge
-from walkmath.steplaw import MAX_JUMPS, STEP_LIMIT
+from walkmath.steplaw import MAX_JUMPS, OBSERVATION_CAP, STEP_LIMIT
 
 NAN, INF = float("nan"), float("inf")
 HALF = wm.StepLaw.nearest(0.3, 0.3)
@@ -52,6 +53,8 @@ BAD_INPUTS = [
     ("from_pmf step 10**10", lambda: wm.StepLaw.from_pmf({0: 0.5, 10**10: 0.5}), ValueError, "step"),
     ("from_pmf step nan", lambda: wm.StepLaw.from_pmf({NAN: 1.0}), ValueError, "step"),
     ("empirical width", lambda: wm.StepLaw.empirical([0, 10**9]), ValueError, "MAX_JUMPS"),
+    ("empirical too many", lambda: wm.StepLaw.empirical([0] * (OBSERVATION_CAP + 1)), ValueError, "observations"),
+    ("from_pmf endless", lambda: wm.StepLaw.from_pmf((k, 0.0) for k in itertools.count()), ValueError, "MAX_JUMPS"),
     ("empirical value 10**30", lambda: wm.StepLaw.empirical([0, 10**30]), ValueError, "observation"),
     ("empirical count negative", lambda: wm.StepLaw.empirical({0: -1.0, 1: 2.0}), ValueError, "count"),
     ("empirical count inf", lambda: wm.StepLaw.empirical({0: INF}), ValueError, "count"),
