@@ -27,10 +27,11 @@ from walkmath.cost import Work
 COUNT_TAIL = 1e-24
 
 # Largest number of jumps (support width, highest - lowest + 1) of one step law: 8 MB of floats.
-# It keeps every count law accepted before the cap (count laws are evaluated on 0..cut): a Poisson
-# law at its largest mean (1e6) reaches its 1e-24 tail at 1,010,216 counts, and the planner's widest
-# negative binomial (mean 1e4, variance 1e8) at 552,597. Wider laws could not be used anyway: one banded period over the
-# law's own width costs width**2 > 1e12 work units, fifty times ``walkmath.cost.WORK_CAP``.
+# It keeps every count law accepted before the cap (count laws are evaluated on 0..cut): a
+# Poisson law at its largest mean (1e6) reaches its 1e-24 tail at 1,010,216 counts, and the
+# planner's widest negative binomial (mean 1e4, variance 1e8) at 552,597. A wider law could not be
+# used anyway: one banded period over as many levels as the law has jumps already costs
+# width**2 > 1e12 work units, fifty times ``walkmath.cost.WORK_CAP``.
 MAX_JUMPS = 2**20 + 1
 # Most observed values ``empirical`` reads one by one (a Python loop of about a second); larger
 # samples come as {value: count}.

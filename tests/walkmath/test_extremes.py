@@ -40,14 +40,41 @@ EXAMPLES = settings(
 )
 
 
+# Address space a call may add: an allocation the caps missed fails here as MemoryError (a test
+# failure naming the call) instead of exhausting the machine.
+MEMORY_GUARD = 3 * 2**30
+
+
 @contextlib.contextmanager
 def small_caps():
     """Lower the work cap of ``Work.check`` (and the banded engine's own cap) for the duration."""
     check = cost.Work.check
-    with pytest.MonkeyPatch.context() as patch:
+    with pytest.MonkeyPatch.context() as patch, memory_guard():
         patch.setattr(cost.Work, "check", lambda self, cap=SMALL_CAP: check(self, min(cap, SMALL_CAP)))
         patch.setattr(wm.banded, "COMPUTE_CAP", SMALL_LEVEL_PERIODS, raising=False)
         yield
+
+
+@contextlib.contextmanager
+def memory_guard():
+    """Limit this process's address space to its current size plus ``MEMORY_GUARD`` (Linux)."""
+    try:
+        import resource
+
+        with open("/proc/self/statm") as statm:
+            in_use = int(statm.read().split()[0]) * resource.getpagesize()
+    except (ImportError, OSError):  # not Linux: no guard
+        yield
+        return
+    soft, hard = resource.getrlimit(resource.RLIMIT_AS)
+    limit = in_use + MEMORY_GUARD
+    if hard != resource.RLIM_INFINITY:
+        limit = min(limit, hard)
+    resource.setrlimit(resource.RLIMIT_AS, (limit, hard))
+    try:
+        yield
+    finally:
+        resource.setrlimit(resource.RLIMIT_AS, (soft, hard))
 
 
 def answer_or_refusal(call):
