@@ -48,8 +48,11 @@ EVALUATION_UNITS = 1_500
 WINDOW_UNITS = 2_500_000
 WINDOW_JUMP_UNITS = 20_000
 FFT_UNITS = 15
-# Points of the tilt grid on which the number and size of tilted windows are estimated.
+# Points of the tilt grid on which the number and size of tilted windows are estimated, fewer for
+# wide laws so the estimate costs at most about ``PRICE_BUDGET`` element operations (a wide law is a
+# smooth count law, whose tilted variance needs fewer points than a narrow law with gaps).
 PRICE_GRID = 257
+PRICE_BUDGET = 20_000_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -159,6 +162,8 @@ def _power_units(law: StepLaw, times: int) -> float:
     """Units of ``_power(law, times)``, following the same choice of method."""
     if times == 0 or law.probs.size == 1:
         return 0
+    if times == 1:
+        return law.probs.size
     lattice = math.gcd(*np.flatnonzero(law.probs).tolist())
     if lattice > 1:
         coarse = law.probs[::lattice]
@@ -200,16 +205,17 @@ def _tilted_units(law: StepLaw, times: int) -> float:
     edge = min(0.5, 1.0 / times)
     log_lo = _tilt_for_mean(law.probs, edge)
     log_hi = _tilt_for_mean(law.probs, width - 1 - edge)
-    grid = np.linspace(log_lo, log_hi, PRICE_GRID)
+    points = max(33, min(PRICE_GRID, PRICE_BUDGET // width))
+    grid = np.linspace(log_lo, log_hi, points)
     offsets = np.arange(width, dtype=float)  # float: a mixed int-float dot product takes a slow loop
     support = law.probs > 0
     log_p = np.log(law.probs[support])
     offs = offsets[support]
-    density = np.empty(PRICE_GRID)  # per unit of log theta: windows x cost of one window
+    density = np.empty(points)  # per unit of log theta: windows x cost of one window
     for index, log_theta in enumerate(grid):
         exponents = log_p + offs * log_theta
         exponents -= exponents.max()
-        exponents[exponents < -700.0] = -np.inf  # exact zeros: subnormal weights make the sums 100x slower
+        exponents[exponents < -600.0] = -np.inf  # exact zeros: subnormal weights make the sums 100x slower
         weights = np.exp(exponents)
         weights /= weights.sum()
         mean = float(weights @ offs)
@@ -233,6 +239,8 @@ def _power(law: StepLaw, times: int) -> tuple[int, np.ndarray]:
     lowest = times * law.lowest
     if times == 0 or law.probs.size == 1:
         return lowest, np.ones(1)
+    if times == 1:
+        return lowest, law.probs.copy()
     lattice = math.gcd(*np.flatnonzero(law.probs).tolist())
     if lattice > 1:  # e.g. steps -2, 0, 2: work on the coarse lattice, then spread out
         coarse = StepLaw._trusted(0, law.probs[::lattice])
