@@ -132,7 +132,7 @@ def _plan(laws: tuple[StepLaw, ...], steps: int, method: str) -> tuple[Work, Ste
     full_cycles, rest = divmod(steps, len(laws))
     spans = [law.probs.size - 1 for law in laws]
     support = full_cycles * sum(spans) + sum(spans[:rest]) + 1
-    knob = "shorten the steps (periods) or coarsen the units of the step law"
+    knob = "use fewer periods (steps, or a shorter lead time) or coarser units for the step law"
     if support > SUPPORT_CAP:
         raise ComputeTooLarge(
             f"{method} would span {support:,} levels; the limit is {SUPPORT_CAP:,} (80 MB). To fit, {knob}."
