@@ -18,6 +18,11 @@ HORIZON_CAP = 10_000_000
 # Probability vectors may sum to 1 within this tolerance; they are renormalised.
 SUM_TOLERANCE = 1e-9
 
+# Largest size of a level (a start, low or high) the free-walk functions accept. With steps of at
+# most 10**9 (``walkmath.steplaw.STEP_LIMIT``) over at most ``HORIZON_CAP`` periods, every level
+# they compute stays below 1.1e16 in size, well inside int64 (9.2e18).
+LEVEL_LIMIT = 10**12
+
 
 def whole(name: str, value, *, minimum: int | None = None, maximum: int | None = None) -> int:
     """Return ``value`` as an ``int`` or raise naming ``name`` and the range."""
@@ -41,13 +46,21 @@ def real(
 ) -> float:
     """Return ``value`` as a finite ``float`` or raise naming ``name`` and the range."""
     low = "above" if strict_minimum else "at least"
-    if isinstance(value, bool) or not isinstance(value, Real) or not math.isfinite(float(value)):
+    if isinstance(value, bool) or not isinstance(value, Real) or not math.isfinite(_as_float(value)):
         raise ValueError(f"{name} must be a finite number{_span(minimum, maximum, low)}; got {value!r}")
     value = float(value)
     too_low = minimum is not None and (value <= minimum if strict_minimum else value < minimum)
     if too_low or (maximum is not None and value > maximum):
         raise ValueError(f"{name} must be a finite number{_span(minimum, maximum, low)}; got {value!r}")
     return value
+
+
+def _as_float(value) -> float:
+    """float(value), with numbers too large for a float (an int such as 10**400) as inf."""
+    try:
+        return float(value)
+    except OverflowError:
+        return math.inf
 
 
 def probability(name: str, value) -> float:
@@ -68,15 +81,28 @@ def open_probability(name: str, value) -> float:
 
 def probability_vector(name: str, values) -> np.ndarray:
     """Non-negative finite weights summing to 1 within ``SUM_TOLERANCE``; renormalised."""
-    weights = np.asarray(values, dtype=float)
+    weights = float_array(name, values, "probabilities between 0 and 1")
     if weights.ndim != 1 or weights.size == 0:
         raise ValueError(f"{name} must be a non-empty list of probabilities")
-    if not np.all(np.isfinite(weights)) or np.any(weights < 0):
+    if not np.all(np.isfinite(weights)) or np.any(weights < 0) or np.any(weights > 1.0 + SUM_TOLERANCE):
         raise ValueError(f"{name} must hold probabilities between 0 and 1")
     total = math.fsum(weights)
     if abs(total - 1.0) > SUM_TOLERANCE:
         raise ValueError(f"{name} must sum to 1 (within {SUM_TOLERANCE:g}); they sum to {total:.12g}")
     return weights / total
+
+
+def float_array(name: str, values, what: str = "finite numbers") -> np.ndarray:
+    """``values`` as a float array, or ValueError naming ``name`` (not numbers, or too large for a float)."""
+    try:
+        return np.asarray(values, dtype=float)
+    except (TypeError, ValueError, OverflowError):
+        raise ValueError(f"{name} must be a list of {what}") from None
+
+
+def level(name: str, value) -> int:
+    """A level (start, low, high) of a free walk: a whole number within +-``LEVEL_LIMIT``."""
+    return whole(name, value, minimum=-LEVEL_LIMIT, maximum=LEVEL_LIMIT)
 
 
 def horizon(value, name: str = "horizon") -> int:

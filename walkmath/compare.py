@@ -19,8 +19,9 @@ import numpy as np
 from scipy import special, stats
 
 from walkmath import checks
-from walkmath.banded import ABOVE_RULES, BELOW_RULES
-from walkmath.distribution import LevelDistribution
+from walkmath.checks import ABOVE_RULES, BELOW_RULES
+from walkmath.cost import Work
+from walkmath.distribution import EVALUATION_UNITS, LevelDistribution
 from walkmath.steplaw import as_cycle
 
 # Paths simulated together: a handful of arrays of this length live at once
@@ -30,6 +31,11 @@ CHUNK_PATHS = 1 << 16
 SIMULATION_CAP = 1_000_000_000
 # Largest number of levels one normal level law spans (80 MB of floats).
 LEVELS_CAP = 10_000_000
+# Work units (``walkmath.cost``) of one simulated path-period (a uniform, a search, a few
+# comparisons: about 16 ns); each period of a chunk also pays ``PERIOD_OVERHEAD``.
+PATH_PERIOD_UNITS = 100
+# Periods of the normal stock-out curve evaluated at once, so its temporaries stay near 100 MB.
+CURVE_CHUNK = 1 << 20
 
 
 def normal_level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
@@ -45,7 +51,7 @@ def normal_level_distribution(law, steps: int, start: int = 0) -> LevelDistribut
     """
     laws = as_cycle(law)
     steps = checks.horizon(steps, "steps")
-    start = checks.whole("start", start)
+    start = checks.level("start", start)
     full_cycles, rest = divmod(steps, len(laws))
     uses = [full_cycles + (1 if index < rest else 0) for index in range(len(laws))]
     mean = start + math.fsum(count * item.mean for count, item in zip(uses, laws, strict=True))
@@ -57,6 +63,7 @@ def normal_level_distribution(law, steps: int, start: int = 0) -> LevelDistribut
             f"steps x step range must span at most {LEVELS_CAP:,} levels; got {highest - lowest + 1:,}. "
             "Shorten the steps or coarsen the units."
         )
+    _evaluations("normal_level_distribution", highest - lowest + 1, "shorten the steps or coarsen the units").check()
     levels = np.arange(lowest, highest + 1)
     return LevelDistribution(levels, _normal_bins(levels, mean, math.sqrt(variance)))
 
@@ -96,14 +103,19 @@ def normal_stockout_curve(law, start: int, low: int, horizon: int) -> np.ndarray
     the integer level first falls below ``low`` when it reaches low - 1.
     """
     laws = as_cycle(law)
-    low = checks.whole("low", low)
-    start = checks.whole("start", start)
+    low = checks.level("low", low)
+    start = checks.level("start", start)
     if start < low:
         raise ValueError(f"start must be at least low ({low}); got {start}")
     horizon = checks.horizon(horizon)
+    _evaluations("normal_stockout_curve", horizon + 1, "shorten the horizon").check()
     drift = math.fsum(item.mean for item in laws) / len(laws)
     variance = math.fsum(item.variance for item in laws) / len(laws)
-    return _first_passage(drift, variance, start - low + 0.5, np.arange(horizon + 1, dtype=float))
+    curve = np.empty(horizon + 1)
+    for first in range(0, horizon + 1, CURVE_CHUNK):
+        times = np.arange(first, min(first + CURVE_CHUNK, horizon + 1), dtype=float)
+        curve[first : first + times.size] = _first_passage(drift, variance, start - low + 0.5, times)
+    return curve
 
 
 def wilson_interval(successes, trials: int, confidence: float = 0.95):
@@ -113,7 +125,7 @@ def wilson_interval(successes, trials: int, confidence: float = 0.95):
     with p = successes / n and z the two-sided normal quantile. ``successes`` may
     be an array; returns (lower, upper) as floats or arrays, clipped to [0, 1].
     """
-    trials = checks.whole("trials", trials, minimum=1)
+    trials = checks.whole("trials", trials, minimum=1, maximum=2**53)  # counts exact as floats
     confidence = checks.open_probability("confidence", confidence)
     counts = np.asarray(successes)
     if counts.dtype.kind not in "iuf" or np.any(counts != np.floor(counts)):
@@ -165,15 +177,16 @@ def monte_carlo_outlook(
     Generator seeded with ``seed``, so a run is reproducible. stockout[n] is the
     fraction of paths with at least one stock-out in periods 1..n (a stopped
     path has no later events), overflow[n] likewise. Memory stays a few MB
-    whatever ``paths`` and ``horizon``; time is about 15-30 ns per path-period
-    (10**6 paths x 1000 periods: 15-30 s).
+    whatever ``paths`` and ``horizon``; time is about 15-30 ns per path-period,
+    priced (``monte_carlo_work``) and refused over ``walkmath.cost.WORK_CAP``
+    (about 2e8 path-periods) before the run starts.
     """
     laws = as_cycle(law)
-    low = checks.whole("low", low)
-    high = None if high is None else checks.whole("high", high)
+    low = checks.level("low", low)
+    high = None if high is None else checks.level("high", high)
     if high is not None and high < low:
         raise ValueError(f"high (capacity) must be at least low ({low}); got {high}")
-    start = checks.whole("start", start)
+    start = checks.level("start", start)
     if start < low or (high is not None and start > high):
         upper = "" if high is None else f" and at most high ({high})"
         raise ValueError(f"start must be at least low ({low}){upper}; got {start}")
@@ -185,6 +198,7 @@ def monte_carlo_outlook(
         raise ValueError(f"paths x horizon must be at most {SIMULATION_CAP:,}; got {paths:,} x {horizon:,}")
     seed = checks.whole("seed", seed, minimum=0)
     confidence = checks.open_probability("confidence", confidence)
+    monte_carlo_work(paths, horizon).check()
 
     rng = np.random.default_rng(seed)
     samplers = [(item.lowest, np.cumsum(item.probs)[:-1]) for item in laws]
@@ -205,6 +219,23 @@ def monte_carlo_outlook(
         paths=paths,
         seed=seed,
         confidence=confidence,
+    )
+
+
+def _evaluations(method: str, count: int, knob: str) -> Work:
+    """Work of ``count`` normal-tail evaluations (a few special functions each, as one scipy term)."""
+    return Work(method, count, 1, 1, copies=0, dense=count * EVALUATION_UNITS, knob=knob)
+
+
+def monte_carlo_work(paths: int, horizon: int) -> Work:
+    """Priced work of ``monte_carlo_outlook``: chunks x periods x (paths in a chunk x ``PATH_PERIOD_UNITS``)."""
+    return Work(
+        "monte_carlo_outlook",
+        min(paths, CHUNK_PATHS),
+        horizon,
+        PATH_PERIOD_UNITS,
+        copies=-(-paths // CHUNK_PATHS),
+        knob="simulate fewer paths or shorten the horizon",
     )
 
 

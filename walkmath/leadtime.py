@@ -18,6 +18,7 @@ from __future__ import annotations
 import numpy as np
 
 from walkmath import checks
+from walkmath.cost import Work
 from walkmath.distribution import LevelDistribution, law_power
 from walkmath.steplaw import StepLaw
 
@@ -35,7 +36,8 @@ def lead_time_demand(demand: StepLaw, lead_time: int | StepLaw) -> LevelDistribu
     convolution at a time from the shortest lead time; O((L_max * width)^2 / 2)
     multiply-adds for L_max the longest lead time and width the demand support.
     Exact up to rounding and the demand law's own truncated tail (about L_max
-    times ``demand.truncated_mass``).
+    times ``demand.truncated_mass``). Both are priced before they start and refused
+    over ``walkmath.cost.WORK_CAP`` (``ComputeTooLarge``).
     """
     demand = _demand_law(demand)
     if isinstance(lead_time, StepLaw):
@@ -81,6 +83,19 @@ def _smallest_covering(probs: np.ndarray, service: float) -> int:
 def _compound(demand: StepLaw, lead_time: StepLaw) -> np.ndarray:
     """sum_L P(L) demand^{*L} on levels 0..L_max * demand.highest, as non-negative additions."""
     _check_support(demand, lead_time.highest)
+    # One np.convolve of the running power with the demand law per lead time beyond the shortest.
+    span, width = demand.probs.size - 1, demand.probs.size
+    first, last = lead_time.lowest, lead_time.highest
+    powers = (last - first) * (first * span + 1) + span * (last - first) * (last - first - 1) // 2
+    Work(
+        "lead_time_demand (random lead time)",
+        last * span + 1,
+        last - first,
+        width,
+        copies=0,
+        dense=powers * width,
+        knob="shorten the longest lead time or coarsen the demand units",
+    ).check()
     result = np.zeros(lead_time.highest * demand.highest + 1)
     lowest, power = law_power(demand, lead_time.lowest)
     for offset, weight in enumerate(lead_time.probs):

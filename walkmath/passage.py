@@ -19,20 +19,27 @@ import numpy as np
 from scipy import stats
 
 from walkmath import checks
+from walkmath.cost import Work
+from walkmath.distribution import EVALUATION_UNITS
 from walkmath.steplaw import StepLaw
 
 
 def first_stockout_times(law: StepLaw, start: int, low: int, horizon: int) -> np.ndarray:
-    """P(first stock-out happens in period n) for n = 0..horizon, no capacity (hitting-time theorem)."""
+    """P(first stock-out happens in period n) for n = 0..horizon, no capacity (hitting-time theorem).
+
+    ``low`` and ``start`` (at least low) within +-``checks.LEVEL_LIMIT``, ``horizon`` 0 to
+    ``checks.HORIZON_CAP``; the work (``work``) is priced first and refused over ``WORK_CAP``.
+    """
     if not isinstance(law, StepLaw):
         raise ValueError("law must be a single StepLaw (the hitting-time theorem needs a fixed step law)")
     if law.lowest < -1:
         raise ValueError(
             f"law must have down-steps of at most 1 for the hitting-time theorem; its lowest step is {law.lowest}"
         )
-    low = checks.whole("low", low)
-    start = checks.whole("start", start, minimum=low)
+    low = checks.level("low", low)
+    start = checks.whole("start", start, minimum=low, maximum=checks.LEVEL_LIMIT)
     horizon = checks.horizon(horizon)
+    work(law, horizon).check()
     distance = start - low + 1  # the level low - 1 is the first stock-out level
     periods = np.arange(1, horizon + 1)
     result = np.zeros(horizon + 1)
@@ -40,6 +47,26 @@ def first_stockout_times(law: StepLaw, start: int, low: int, horizon: int) -> np
         return result
     result[1:] = distance / periods * _free_walk_at(law, -distance, horizon)
     return result
+
+
+def work(law: StepLaw, horizon: int) -> Work:
+    """Priced work of ``first_stockout_times`` over ``horizon`` periods, in ``walkmath.cost`` units.
+
+    Two-point laws: one binomial term per period. Otherwise the running convolution: per
+    period, one ``np.convolve`` of the kept window with the law plus the period's fixed
+    charge. The window grows by (jumps - 1) a period from the start and shrinks by
+    (largest up-step + 1) a period towards the horizon, so its mean length is at most half
+    its peak, which is priced here.
+    """
+    knob = "shorten the horizon or coarsen the units of the step law"
+    if law.lowest > -1 or horizon == 0:
+        return Work("first_stockout_times", 1, horizon, law.probs.size, copies=0, knob=knob)
+    if np.count_nonzero(law.probs) == 2:
+        units = horizon * EVALUATION_UNITS
+        return Work("first_stockout_times", horizon, 1, 1, copies=0, dense=units, knob=knob)
+    growth, shrink = law.probs.size - 1, max(law.highest, 0) + 1
+    peak = growth * shrink * horizon / (growth + shrink) + 1
+    return Work("first_stockout_times", int(peak // 2) + 1, horizon, law.probs.size, knob=knob)
 
 
 def _free_walk_at(law: StepLaw, level: int, horizon: int) -> np.ndarray:

@@ -12,12 +12,16 @@ import numpy as np
 
 from walkmath import checks
 from walkmath.continuous import peak_relative_weights, time_within
+from walkmath.cost import Work
 from walkmath.distribution import LevelDistribution
 
 # Each tail of the Skellam law left out of ``continuous_level_distribution`` holds at most this mass.
 SKELLAM_TAIL = 1e-300
-# Largest mean number of jumps (up_rate + down_rate) * t of the free walk: about 2.4e6 levels.
+# Largest mean number of jumps (up_rate + down_rate) * t of the free walk. The work (one Python
+# step of the ratio recurrence per level, ``LEVEL_UNITS``) is priced and capped separately.
 JUMP_CAP = 1e9
+# Work units (``walkmath.cost``) of one step of the ratio recurrence, a Python loop: about 260 ns.
+LEVEL_UNITS = 1_300
 
 
 def continuous_level_distribution(up_rate: float, down_rate: float, t: float, start: int = 0) -> LevelDistribution:
@@ -30,13 +34,16 @@ def continuous_level_distribution(up_rate: float, down_rate: float, t: float, st
     Every entry keeps relative accuracy near 1e-13 at any rates, where the closed form through
     ``scipy.special.ive`` underflows (ive(1000, 2) = 0 though P(N = 1000) = 0.0126 for a = 1000,
     b = 0.001). The levels leave out at most ``SKELLAM_TAIL`` (1e-300) of mass on each side.
+    Rates at least 0, t at least 0 with (up_rate + down_rate) t at most ``JUMP_CAP``;
+    the work (``work``) is priced before it starts and refused over ``WORK_CAP``.
     """
     up_rate = checks.real("up_rate", up_rate, minimum=0.0)
     down_rate = checks.real("down_rate", down_rate, minimum=0.0)
     jump_rate = up_rate + down_rate
     t = time_within("t", t, JUMP_CAP / jump_rate if jump_rate > 0 else math.inf)
-    start = checks.whole("start", start, minimum=-(10**12), maximum=10**12)
+    start = checks.level("start", start)
     up, down = up_rate * t, down_rate * t
+    work(up, down).check()
     # log P(N = k) - log P(N = k - 1) for every step of the range, lowest level first
     below = _log_ratios(down, up)  # log P(N = -k) - log P(N = 1 - k), k = 1, 2, ...
     increments = np.concatenate((-below[::-1], _log_ratios(up, down)))
@@ -47,6 +54,24 @@ def continuous_level_distribution(up_rate: float, down_rate: float, t: float, st
     probs = probs[kept[0] : kept[-1] + 1]
     lowest += int(kept[0])
     return LevelDistribution(np.arange(lowest, lowest + probs.size), probs)
+
+
+def work(up: float, down: float) -> Work:
+    """Priced work for mean jump counts ``up`` and ``down`` (rate x time): one recurrence step per level.
+
+    Each side runs from ``_tail_reach`` plus a margin of 64 + sqrt(up + down) levels down to 1.
+    """
+    margin = 64 + math.ceil(math.sqrt(up + down))
+    steps = sum(_tail_reach(a, b) + margin for a, b in ((up, down), (down, up)) if a > 0)
+    return Work(
+        "continuous_level_distribution",
+        steps,
+        1,
+        1,
+        copies=0,
+        dense=steps * LEVEL_UNITS,
+        knob="shorten the time t or lower the jump rates (coarser units)",
+    )
 
 
 def _log_ratios(a: float, b: float) -> np.ndarray:
