@@ -94,12 +94,12 @@ class BandedWalk:
         self, law, start: int, low: int = 0, high: int | None = None, below=DEFAULT_BELOW, above=DEFAULT_ABOVE
     ):
         self.laws = as_cycle(law)
-        self.low = checks.whole("low", low)
-        self.high = None if high is None else checks.whole("high", high)
+        self.low = checks.level("low", low)
+        self.high = None if high is None else checks.level("high", high)
         if self.high is not None and self.high < self.low:
             raise ValueError(f"high (capacity) must be at least low ({self.low}); got {self.high}")
         upper = "" if self.high is None else f" and at most high ({self.high})"
-        self.start = checks.whole("start", start)
+        self.start = checks.level("start", start)
         if self.start < self.low or (self.high is not None and self.start > self.high):
             raise ValueError(f"start must be at least low ({self.low}){upper}; got {self.start}")
         self.below = checks.choice("below", below, BELOW_RULES)

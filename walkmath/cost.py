@@ -67,7 +67,7 @@ class Work:
         """Return self, or raise ``ComputeTooLarge`` when ``units`` exceeds ``cap``."""
         if self.units > cap:
             raise ComputeTooLarge(
-                f"{self.method} needs {self.units:.3g} units of work ({self.levels:,} levels x "
+                f"{self.method} needs {_short(self.units)} units of work ({self.levels:,} levels x "
                 f"{self.periods:,} periods x {self.jumps:,} jumps); the limit is {cap:.3g}. "
                 f"To fit, {self.knob}."
             )
@@ -77,3 +77,8 @@ class Work:
 def price(walk, horizon: int, method: str) -> Work:
     """Work of ``method`` on ``walk`` over ``horizon`` periods (each module prices its own method)."""
     return walk._price(horizon, method)
+
+
+def _short(units: int) -> str:
+    """A work figure in three digits, for integers too large for a float as well."""
+    return f"{units:.3g}" if units < 1e300 else f"about 10^{len(str(units)) - 1}"

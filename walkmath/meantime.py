@@ -249,6 +249,9 @@ def _truncation(walk: BandedWalk, drift: float):
     minimum = start + 1
     if walk.max_up == 0:
         return minimum, lambda size: 0.0  # the walk never rises above its start
+    rises = np.cumsum([law.highest for law in laws])
+    if rises[-1] <= 0:  # a whole cycle cannot rise: the walk never climbs more than its best partial cycle
+        return minimum + int(max(rises.max(), 0)), lambda size: 0.0
     theta, partial = _lundberg(laws)
     if not theta > 0:  # no usable exponent (a drift lost in rounding): the tallest affordable band, flagged
         return _largest_affordable(laws, minimum, 2 * minimum + 10**12), lambda size: math.inf

@@ -182,7 +182,8 @@ def substochastic_band(law: StepLaw, size: int, rules: Rules) -> tuple[int, int,
     P(the path ends from level i this period), each a sum of non-negative terms,
     so elimination can use row sums without ever forming 1 - P(stay).
     """
-    lower, upper = max(-law.lowest, 0), max(law.highest, 0)
+    # Bandwidths never exceed the band: a longer step leaves it, and a held end lies within size - 1.
+    lower, upper = min(max(-law.lowest, 0), size - 1), min(max(law.highest, 0), size - 1)
     band = np.zeros((lower + upper + 1, size))
     ending = np.zeros(size)
     levels = np.arange(size)

@@ -75,7 +75,7 @@ def expected_duration(up: float, down: float, start: int, target: int) -> float:
     gap = down - up  # exact when the two are within a factor 2 (Sterbenz)
     if gap == 0.0:
         return near * far / moving  # Feller vol. 1, XIV (3.6), per move, stretched by 1 / (up + down)
-    log_ratio = math.log1p(gap / up)
+    log_ratio = _log_ratio(up, down)
     x, y = near * log_ratio, far * log_ratio
     shape = (_chi(x) * math.exp(-y) + _kappa(y)) / -math.expm1(-(x + y))
     return near * far * (log_ratio / gap) * shape
@@ -106,8 +106,14 @@ def _kappa(y: float) -> float:
 def _log_ratio(up: float, down: float) -> float:
     """log(down / up) from the exact difference of the two floats (no cancellation near the fair case)."""
     if down >= up:
-        return math.log1p((down - up) / up)
-    return -math.log1p((up - down) / down)
+        ratio = (down - up) / up
+        return math.log1p(ratio) if math.isfinite(ratio) else math.log(down) - math.log(up)
+    ratio = (up - down) / down
+    return -(math.log1p(ratio) if math.isfinite(ratio) else math.log(up) - math.log(down))
+
+
+# Largest distance between the two ends: far beyond any buffer, and every level stays exact in a float.
+TARGET_LIMIT = 10**18
 
 
 def _validate(up, down, start, target):
@@ -115,6 +121,6 @@ def _validate(up, down, start, target):
     down = checks.probability("down", down)
     if up + down > 1.0 + checks.SUM_TOLERANCE:
         raise ValueError(f"up + down must be at most 1; got {up + down:.12g}")
-    target = checks.whole("target", target, minimum=1)
+    target = checks.whole("target", target, minimum=1, maximum=TARGET_LIMIT)
     start = checks.whole("start", start, minimum=0, maximum=target)
     return up, down, start, target

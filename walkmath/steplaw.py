@@ -222,23 +222,28 @@ class StepLaw:
         refused before any pmf is evaluated when the cut would exceed ``MAX_JUMPS``.
         """
 
-        def beyond(count: int) -> float:  # P(count > k)
-            return float(dist.sf(count))
-
-        last = MAX_JUMPS - 1  # the widest law: counts 0..last
-        if beyond(last) > COUNT_TAIL:
-            raise ValueError(
-                f"{label} has more than {COUNT_TAIL:g} of its mass above {last:,} counts (MAX_JUMPS); "
-                f"lower {knob} or count in coarser units"
-            )
-        low, high = -1, 1  # invariant: beyond(low) > COUNT_TAIL >= beyond(high); beyond(-1) = 1
-        while beyond(high) > COUNT_TAIL:
-            low, high = high, min(2 * high + 1, last)
-        while high - low > 1:
-            middle = (low + high) // 2
-            low, high = (low, middle) if beyond(middle) <= COUNT_TAIL else (middle, high)
+        high = _count_cut(dist, label, knob)
         probs = dist.pmf(np.arange(high + 1))
-        return cls._trusted(0, probs / math.fsum(probs), truncated_mass=beyond(high), label=label)
+        return cls._trusted(0, probs / math.fsum(probs), truncated_mass=float(dist.sf(high)), label=label)
+
+    @staticmethod
+    def count_width(family: str, mean: float, variance: float | None = None) -> int:
+        """Number of counts (0..cut) ``poisson(mean)`` or ``negative_binomial(mean, variance)`` would hold.
+
+        Found by the same search on the survival function, without building the law (about
+        2 log2(cut) evaluations), so a caller can price a law before asking for it.
+        """
+        family = checks.choice("family", family, ("poisson", "negative_binomial"))
+        mean = checks.real("mean", mean, minimum=0.0, maximum=1e6)
+        if mean == 0:
+            return 1
+        if family == "poisson":
+            return _count_cut(stats.poisson(mean), "poisson", "the mean") + 1
+        variance = checks.real("variance", variance, minimum=0.0, maximum=1e12)
+        if variance <= mean:
+            raise ValueError(f"variance must exceed the mean ({mean:g}) for a negative binomial; got {variance:g}")
+        dist = stats.nbinom(mean * mean / (variance - mean), mean / variance)
+        return _count_cut(dist, "negative_binomial", "the mean or the variance") + 1
 
     # -- properties ---------------------------------------------------------
 
@@ -294,6 +299,27 @@ class StepLaw:
 def _check_width(name: str, width: int) -> None:
     if width > MAX_JUMPS:
         raise ValueError(f"{name} must be at most {MAX_JUMPS:,} (MAX_JUMPS); got {width:,}")
+
+
+def _count_cut(dist, label: str, knob: str) -> int:
+    """Smallest k with P(count > k) <= ``COUNT_TAIL``, by galloping then bisection on ``dist.sf``."""
+
+    def beyond(count: int) -> float:  # P(count > k)
+        return float(dist.sf(count))
+
+    last = MAX_JUMPS - 1  # the widest law: counts 0..last
+    if beyond(last) > COUNT_TAIL:
+        raise ValueError(
+            f"{label} has more than {COUNT_TAIL:g} of its mass above {last:,} counts (MAX_JUMPS); "
+            f"lower {knob} or count in coarser units"
+        )
+    low, high = -1, 1  # invariant: beyond(low) > COUNT_TAIL >= beyond(high); beyond(-1) = 1
+    while beyond(high) > COUNT_TAIL:
+        low, high = high, min(2 * high + 1, last)
+    while high - low > 1:
+        middle = (low + high) // 2
+        low, high = (low, middle) if beyond(middle) <= COUNT_TAIL else (middle, high)
+    return high
 
 
 def as_cycle(law, name: str = "law") -> tuple[StepLaw, ...]:

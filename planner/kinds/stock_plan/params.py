@@ -96,14 +96,14 @@ class CountLaw:
             object.__setattr__(self, "table", rows)
 
     def width_bound(self, scale: float = 1.0) -> int:
-        """Most possible counts the law can have, from its numbers alone (no law is built).
+        """Possible counts the law has, from its numbers alone (no law is built).
 
-        Poisson and negative binomial laws are cut by walkmath at most 40
-        standard deviations plus 200 above the mean (``StepLaw._counts``).
+        Poisson and negative binomial laws: walkmath's own cut, found on the survival
+        function (``StepLaw.count_width``, a few dozen evaluations).
         """
         if self.family in SCALABLE_FAMILIES:
-            variance = self.mean if self.family == "poisson" else self.variance
-            return int(math.ceil(self.mean * scale + 40 * math.sqrt(variance * scale) + 200)) + 1
+            variance = None if self.family == "poisson" else self.variance * scale
+            return wm.StepLaw.count_width(self.family, self.mean * scale, variance)
         if self.family == "fixed":
             return 1
         return self.table[-1][0] - self.table[0][0] + 1 if self.table else 1
