@@ -159,9 +159,17 @@ class BandedWalk:
         return outlook
 
     def _grid(self, horizon: int, start: int) -> tuple[int, int]:
-        """Lowest and highest level the walk can occupy (bounded band, or reach within the horizon)."""
-        lowest = self.low if self.below != "backorder" else min(self.low, start - horizon * self.max_down)
-        highest = self.high if self.high is not None else max(start, start + horizon * self.max_up)
+        """Lowest and highest level the walk can occupy within the horizon (never beyond a bounded end).
+
+        The grid may stop short of ``low`` or ``high`` when the horizon cannot reach them; the
+        forward step then never settles anything there.
+        """
+        lowest = start - horizon * self.max_down
+        if self.below != "backorder":
+            lowest = max(lowest, self.low)
+        highest = start + horizon * self.max_up
+        if self.high is not None:
+            highest = min(highest, self.high)
         return lowest, highest
 
     def _copies(self) -> tuple[list[Rules], int, int]:

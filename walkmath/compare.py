@@ -115,7 +115,9 @@ def normal_stockout_curve(law, start: int, low: int, horizon: int) -> np.ndarray
     for first in range(0, horizon + 1, CURVE_CHUNK):
         times = np.arange(first, min(first + CURVE_CHUNK, horizon + 1), dtype=float)
         curve[first : first + times.size] = _first_passage(drift, variance, start - low + 0.5, times)
-    return curve
+    # First passage by time t never falls as t grows; near its limit the closed form's rounding can
+    # step back by an ulp, so the comparison curve is held monotone by a running maximum.
+    return np.maximum.accumulate(curve)
 
 
 def wilson_interval(successes, trials: int, confidence: float = 0.95):

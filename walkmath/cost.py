@@ -28,6 +28,8 @@ COST_METHODS = (
 
 # Largest work one engine call accepts: about 5 s on one core.
 WORK_CAP = 20_000_000_000
+# Largest number of levels x state copies one call holds in memory at once (400 MB of floats).
+LEVELS_CAP = 50_000_000
 # Fixed cost of one period of a sweep, in the same units (about 10 microseconds).
 PERIOD_OVERHEAD = 50_000
 
@@ -64,7 +66,13 @@ class Work:
         )
 
     def check(self, cap: int = WORK_CAP) -> Work:
-        """Return self, or raise ``ComputeTooLarge`` when ``units`` exceeds ``cap``."""
+        """Return self, or raise ``ComputeTooLarge`` when ``units`` exceeds ``cap`` or the levels held
+        in memory exceed ``LEVELS_CAP``."""
+        if self.levels * max(self.copies, 1) > LEVELS_CAP:
+            raise ComputeTooLarge(
+                f"{self.method} needs {self.levels:,} levels in memory; the limit is "
+                f"{LEVELS_CAP // max(self.copies, 1):,} here. To fit, {self.knob}."
+            )
         if self.units > cap:
             raise ComputeTooLarge(
                 f"{self.method} needs {_short(self.units)} units of work ({self.levels:,} levels x "
