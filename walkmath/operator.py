@@ -155,22 +155,25 @@ def end_values(rules: Rules, values: np.ndarray, event: str, *, band_lo: int, ca
 def period_matrix(law: StepLaw, size: int, rules: Rules) -> np.ndarray:
     """Row-stochastic one-period matrix on levels low..high plus [stocked out, overflowed] absorbing states.
 
-    Built on a bounded band (both ends hold or end); a walking end has no place here.
+    Built on a bounded band (both ends hold or end); a walking end has no place here. Row i holds
+    the law shifted by i inside the band, and the mass beyond each end as a running sum of the
+    law's probabilities from that end (non-negative terms): O(size^2) work whatever the law's width.
     """
+    width = law.probs.size
     matrix = np.zeros((size + 2, size + 2))
     matrix[size, size] = matrix[size + 1, size + 1] = 1.0
     levels = np.arange(size)
+    offset = levels[None, :] - levels[:, None] - law.lowest  # index into probs of the step i -> j
+    inside = (offset >= 0) & (offset < width)
+    matrix[:size, :size] = np.where(inside, law.probs[np.clip(offset, 0, width - 1)], 0.0)
+    from_below = np.concatenate(([0.0], np.cumsum(law.probs)))  # from_below[k] = sum of probs[:k]
+    from_above = np.concatenate((np.cumsum(law.probs[::-1])[::-1], [0.0]))  # from_above[k] = sum of probs[k:]
+    under = from_below[np.clip(-levels - law.lowest, 0, width)]
+    over = from_above[np.clip(size - levels - law.lowest, 0, width)]
     low_target = 0 if rules.at_low == HOLD else size
     high_target = size - 1 if rules.at_high == HOLD else size + 1
-    for offset, weight in enumerate(law.probs):
-        if weight == 0.0:
-            continue
-        target = levels + law.lowest + offset
-        under, over = target < 0, target >= size
-        inside = ~(under | over)
-        matrix[levels[inside], target[inside]] += weight
-        matrix[levels[under], low_target] += weight
-        matrix[levels[over], high_target] += weight
+    matrix[levels, low_target] += under
+    matrix[levels, high_target] += over
     return matrix
 
 
