@@ -128,13 +128,15 @@ class BandedWalk:
 
     def _price(self, horizon: int, method: str) -> Work:
         jumps = max(law.probs.size for law in self.laws)
-        if method in ("outlook", "level_probs"):
+        if method in ("outlook", "level_probs", "first_passage"):
             low, high = self._grid(horizon, self.start)
+            levels = high - low + 1
+            if self.high is not None and self.below != "backorder":
+                jumps = min(jumps, levels)  # a law wider than the band takes one dense product a period
+            if method == "first_passage":
+                return Work(method, levels, horizon, jumps)
             copies = 1 + (self.below != "stop") + (self.above != "stop" and self.high is not None)
-            return Work(method, high - low + 1, horizon, jumps, copies)
-        if method == "first_passage":
-            low, high = self._grid(horizon, self.start)
-            return Work(method, high - low + 1, horizon, jumps)
+            return Work(method, levels, horizon, jumps, copies)
         if method in ("risk_by_start", "smallest_start"):
             return risk.work(self, horizon, method)
         if method == "smallest_capacity":

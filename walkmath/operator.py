@@ -64,6 +64,14 @@ class Forward:
     ``mass[c, i]`` is P(level = lowest + i, path of copy c not ended). Only
     indices ``reach_lo .. reach_hi`` may hold mass; each period's work is one
     convolution per copy over that window, so early periods are cheap.
+
+    Cost model for the method: a convolution costs about reach x jumps
+    multiply-adds per copy, a dense product size x size. When the grid is the
+    whole band (both ends bounded, neither walks on) and the law has more
+    jumps than the band has levels, most of the convolution would fall off
+    the band, so the period is one dense product instead
+    (``_dense_step``: the in-band matrix, and the chance and the expected
+    units of leaving through each end, all sums of non-negative terms).
     """
 
     def __init__(self, rules: list[Rules], size: int, band_lo: int, band_hi: int | None):
@@ -74,6 +82,8 @@ class Forward:
         self.any_hold_low = any(r.at_low == HOLD for r in rules)
         self.any_hold_high = any(r.at_high == HOLD for r in rules)
         self.any_walk_low = any(r.at_low == WALK for r in rules)
+        self.whole_band = band_lo == 0 and band_hi == size - 1 and not self.any_walk_low
+        self._dense: dict[int, tuple] = {}  # id(law) -> (law, inside, under, over, shortfall, excess)
 
     def step(self, mass: np.ndarray, reach: tuple[int, int], law: StepLaw) -> tuple[tuple[int, int], Flows]:
         """Advance ``mass`` one period in place; return the new reach and what left the band.
@@ -81,6 +91,8 @@ class Forward:
         One convolution per copy (at most three), then a few slices: the
         per-period cost is the convolution plus a fixed handful of numpy calls.
         """
+        if self.whole_band and law.probs.size > self.size:
+            return self._dense_step(mass, law)
         lo, hi = reach
         first = lo + law.lowest  # grid index of moved[0]
         last = hi + law.highest
@@ -121,6 +133,42 @@ class Forward:
         if not self.any_walk_low:
             start = max(start, self.band_lo)
         return (start, stop - 1), Flows(fell, rose, lost_units, spilled_units)
+
+    def _dense_step(self, mass: np.ndarray, law: StepLaw) -> tuple[tuple[int, int], Flows]:
+        law, inside, under, over, shortfall, excess = self._dense_parts(law)
+        fell, rose = mass @ under, mass @ over
+        lost_units = float(mass[0] @ shortfall) if self.rules[0].at_low == HOLD else 0.0
+        spilled_units = float(mass[0] @ excess) if self.rules[0].at_high == HOLD else 0.0
+        mass[:] = mass @ inside
+        for copy, rules in enumerate(self.rules):
+            if rules.at_low == HOLD:
+                mass[copy, 0] += fell[copy]
+            if rules.at_high == HOLD:
+                mass[copy, -1] += rose[copy]
+        return (0, self.size - 1), Flows(fell, rose, lost_units, spilled_units)
+
+    def _dense_parts(self, law: StepLaw) -> tuple:
+        """In-band matrix and, per level, the chance and expected units of leaving below and above."""
+        cached = self._dense.get(id(law))
+        if cached is not None and cached[0] is law:
+            return cached
+        size, width = self.size, law.probs.size
+        matrix = period_matrix(law, size, Rules("stop", "stop"))
+        shortfall, excess = np.zeros(size), np.zeros(size)
+        for level in range(size):  # once per law: size slices of the law
+            depth = -(level + law.lowest)  # offset o lands depth - o units below the band
+            below = min(max(depth, 0), width)  # offsets 0..below - 1 land below it
+            if below:
+                shortfall[level] = law.probs[:below] @ np.arange(depth, depth - below, -1, dtype=float)
+            first_above = max(size - level - law.lowest, 0)  # offset o lands o - first_above + 1 above it
+            if first_above < width:
+                excess[level] = law.probs[first_above:] @ (
+                    np.arange(first_above, width, dtype=float) + (level + law.lowest - (size - 1))
+                )
+        parts = (law, matrix[:size, :size].copy(), matrix[:size, size].copy(), matrix[:size, size + 1].copy())
+        parts += (shortfall, excess)
+        self._dense[id(law)] = parts
+        return parts
 
 
 def backward_step(values: np.ndarray, law: StepLaw, below_value: float, above_value: float) -> np.ndarray:

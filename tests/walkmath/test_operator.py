@@ -145,3 +145,20 @@ def test_far_tail_of_a_daily_flow_keeps_relative_accuracy_against_mpmath():
     by_start = walk.risk_by_start(4)
     assert by_start.stockout[60] == pytest.approx(exact, rel=1e-8)
     assert walk.outlook_at([4]).stockout[0] == pytest.approx(exact, rel=1e-8)
+
+
+@pytest.mark.parametrize("below, above", list(itertools.product(("lost", "stop"), wm.checks.ABOVE_RULES)))
+def test_a_band_narrower_than_the_law_takes_the_dense_step_and_stays_exact(below, above):
+    # 10 levels, 31 jumps: the step is one dense product (most of a convolution would fall off the band)
+    ref = banded_outlook([WIDE_PMF, DELIVERY_PMF], 5, 0, 9, below, above, 8)
+    out = wm.BandedWalk([WIDE, DELIVERY], start=5, low=0, high=9, below=below, above=above).outlook(8)
+    for name, values in (
+        ("stockout", out.stockout),
+        ("overflow", out.overflow),
+        ("alive", out.alive),
+        ("lost", out.lost_units),
+        ("spilled", out.spilled_units),
+    ):
+        _close(values, ref[name], 1e-12)
+    for level, p in ref["final"].items():
+        assert out.final.prob(level) == pytest.approx(float(p), rel=1e-12)
