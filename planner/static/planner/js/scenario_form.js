@@ -11,6 +11,9 @@
   });
   var pending = null;
   var sequence = 0;
+  var running = null;
+  var touched = false; // an untouched form shows the hint, never an error
+  var hint = summary.textContent;
 
   function value(name) {
     var checked = form.querySelector("[name='" + name + "']:checked");
@@ -35,15 +38,21 @@
     var params = new URLSearchParams();
     stepNames.forEach(function (name) { var v = value(name); if (v !== "") { params.append(name, v); } });
     var mine = ++sequence;
-    fetch(form.dataset.previewUrl + "?" + params.toString(), { credentials: "same-origin" })
-      .then(function (response) { return response.json().then(function (body) { return { ok: response.ok, body: body }; }); })
+    if (running) { running.abort(); }
+    running = new AbortController();
+    fetch(form.dataset.previewUrl + "?" + params.toString(), { credentials: "same-origin", signal: running.signal })
+      .then(function (response) {
+        var json = (response.headers.get("Content-Type") || "").indexOf("json") >= 0;
+        return (json ? response.json() : Promise.resolve({})).then(function (body) { return { ok: response.ok, body: body }; });
+      })
       .then(function (reply) {
         if (mine !== sequence) { return; }
+        running = null;
         if (!reply.ok) {
           var errors = reply.body.errors || {};
           var first = Object.keys(errors)[0];
-          summary.textContent = first ? errors[first][0] : "Fill in the step law to see it here.";
-          summary.className = "field-error";
+          summary.textContent = touched && first ? errors[first][0] : hint;
+          summary.className = touched && first ? "field-error" : "muted";
           return;
         }
         var law = reply.body;
@@ -57,11 +66,13 @@
           xaxis: { title: { text: "change in one period (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
           yaxis: { title: { text: "probability" }, rangemode: "tozero" },
           font: { size: 11, color: "#24303f" }
-        }, { displayModeBar: false, responsive: true });
-      });
+        }, Object.assign(PlannerCharts.config("step-law"), { displayModeBar: false }));
+      })
+      .catch(function () { /* aborted by a newer preview, or offline: the next input tries again */ });
   }
 
   form.addEventListener("input", function () {
+    touched = true;
     showGroups();
     clearTimeout(pending);
     pending = setTimeout(preview, 200);
