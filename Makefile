@@ -12,7 +12,7 @@ SECRET_KEY_FILE := .secret_key
 # A key from the environment wins; otherwise the local generated one.
 RUN_ENV = SECRET_KEY="$${SECRET_KEY:-$$(cat $(SECRET_KEY_FILE))}"
 
-.PHONY: run test bench lint
+.PHONY: run test bench loadtest lint
 
 $(BIN)/.installed: requirements.txt
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -36,6 +36,12 @@ test: $(BIN)/.installed
 
 bench: $(BIN)/.installed
 	$(BIN)/python -m walkmath.bench
+
+# gunicorn with 2 workers, 8 concurrent clients on the demo scenarios (loads them first)
+loadtest: $(BIN)/.installed $(SECRET_KEY_FILE)
+	$(RUN_ENV) $(BIN)/python manage.py migrate --noinput
+	$(RUN_ENV) $(BIN)/python manage.py load_demo
+	$(RUN_ENV) $(BIN)/python manage.py loadtest
 
 lint: $(BIN)/.installed
 	$(BIN)/ruff check walkmath planner tests
