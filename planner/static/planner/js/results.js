@@ -79,12 +79,14 @@
     cancel.hidden = !busy;
   }
 
-  // The field a 400 message is about (messages start with the parameter's name), marked for the reader.
-  function markField(message) {
+  // The field a 400 reply is about: its "field" key when the server names one, else the message's
+  // first word when that is a field name ("start: ...", "start level must ...").
+  function markField(body) {
     form.querySelectorAll("[aria-invalid]").forEach(function (field) { field.removeAttribute("aria-invalid"); });
-    if (!message) { return; }
-    var first = /^\s*([a-z_]+)/i.exec(message);
-    var field = first && form.elements.namedItem(first[1]);
+    if (!body || !body.error) { return; }
+    var first = /^\s*([a-z_]+)/i.exec(body.error);
+    var name = body.field || (first && first[1].toLowerCase());
+    var field = name && form.elements.namedItem(name);
     if (field && field.setAttribute) {
       field.setAttribute("aria-invalid", "true");
       field.setAttribute("aria-describedby", "whatif-status");
@@ -119,7 +121,7 @@
           var message = reply.body.error || (reply.code >= 500
             ? "The planner failed on these values (error " + reply.code + "); try again or change them."
             : "These values cannot be used.");
-          markField(reply.body.error);
+          markField(reply.body);
           show("error", message);
           return;
         }
