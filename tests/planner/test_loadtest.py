@@ -32,13 +32,15 @@ def test_workload_has_each_results_page_and_what_ifs_inside_the_band():
     call_command("load_demo", stdout=StringIO())
     scenarios = list(Scenario.objects.order_by("pk"))
     jobs = workload(scenarios)
-    kinds = [kind for kind, _ in jobs]
+    kinds = [kind for kind, _, _ in jobs]
     assert kinds.count("results page") == len(scenarios)
     assert kinds.count("what-if JSON") >= 2 * len(scenarios)
     for scenario in scenarios:
         params = scenario.walk_params
         starts = [
-            int(m.group(1)) for _, path in jobs if (m := re.search(rf"/{scenario.pk}/outlook\.json\?start=(\d+)", path))
+            int(m.group(1))
+            for _, title, path in jobs
+            if title == scenario.title and (m := re.search(r"/outlook\.json\?start=(\d+)", path))
         ]
         top = params.high if params.high is not None else params.start + 1
         assert starts and all(params.low <= start <= top for start in starts)
@@ -50,11 +52,14 @@ def test_short_run_against_a_live_server_has_no_errors(live_server):
     out = StringIO()
     call_command("loadtest", url=live_server.url, clients=2, duration=1.0, warmup=0.2, stdout=out)
     report = out.getvalue()
-    rows = {line.split("|")[1].strip(): line.split("|") for line in report.splitlines() if line.startswith("| ")}
+    summary = report.split("by scenario:")[0]
+    rows = {line.split("|")[1].strip(): line.split("|") for line in summary.splitlines() if line.startswith("| ")}
     for kind in ("results page", "what-if JSON"):
         assert int(rows[kind][2]) >= 1, report  # count
         assert int(rows[kind][3]) == 0, report  # errors
     assert re.search(r"all requests: [0-9.]+ req/s", report)
+    by_scenario = report.split("by scenario:")[1]
+    assert all(title in by_scenario for title in Scenario.objects.values_list("title", flat=True))
 
 
 @pytest.mark.django_db(transaction=True)

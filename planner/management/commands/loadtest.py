@@ -103,16 +103,17 @@ class Session:
             raise CommandError(f"could not sign in as {username!r} (status {status}); run manage.py load_demo first")
 
 
-def workload(scenarios) -> list[tuple[str, str]]:
-    """(kind, path) pairs the clients cycle through: each scenario's results page and three what-ifs."""
+def workload(scenarios) -> list[tuple[str, str, str]]:
+    """(kind, scenario title, path) the clients cycle through: each results page and three what-ifs."""
     jobs = []
     for scenario in scenarios:
         params = scenario.walk_params
-        jobs.append(("results page", reverse("scenario_results", args=[scenario.pk])))
+        jobs.append(("results page", scenario.title, reverse("scenario_results", args=[scenario.pk])))
         top = params.high if params.high is not None else params.start + 1
         for start in sorted({max(params.low, params.start - 1), params.start, min(top, params.start + 1)}):
             query = urlencode({"start": start, "horizon": params.horizon})
-            jobs.append(("what-if JSON", f"{reverse('scenario_outlook_json', args=[scenario.pk])}?{query}"))
+            path = f"{reverse('scenario_outlook_json', args=[scenario.pk])}?{query}"
+            jobs.append(("what-if JSON", scenario.title, path))
     return jobs
 
 
@@ -177,7 +178,7 @@ class Command(BaseCommand):
         raise CommandError("gunicorn did not answer within 30 s")
 
     def _run(self, session: Session, jobs, clients: int, seconds: float, record: bool):
-        tallies = {kind: Tally() for kind, _ in jobs}
+        tallies = {(kind, title): Tally() for kind, title, _ in jobs}
         deadline = time.monotonic() + seconds
 
         def client(offset: int) -> None:
@@ -185,7 +186,7 @@ class Command(BaseCommand):
             mine.host, mine.port, mine.cookies = session.host, session.port, dict(session.cookies)
             index = offset
             while time.monotonic() < deadline:
-                kind, path = jobs[index % len(jobs)]
+                kind, title, path = jobs[index % len(jobs)]
                 index += 1
                 began = time.perf_counter()
                 try:
@@ -193,7 +194,7 @@ class Command(BaseCommand):
                     error = None if status == 200 else f"{status} {path}"
                 except (OSError, http.client.HTTPException) as exc:
                     error = f"{type(exc).__name__} {path}"
-                tallies[kind].add(1000 * (time.perf_counter() - began), error)
+                tallies[kind, title].add(1000 * (time.perf_counter() - began), error)
 
         threads = [threading.Thread(target=client, args=(i * len(jobs) // clients,)) for i in range(clients)]
         began = time.perf_counter()
@@ -208,18 +209,31 @@ class Command(BaseCommand):
         self.stdout.write(f"\n{clients} clients, {elapsed:.1f} s, {scenarios} demo scenarios, {server}\n")
         self.stdout.write("| request | count | errors | p50 ms | p95 ms | max ms | req/s | p95 target |")
         self.stdout.write("|---|---:|---:|---:|---:|---:|---:|---|")
-        total = 0
-        for kind, tally in tallies.items():
-            done = tally.latencies
-            total += len(done) + len(tally.errors)
-            p95 = percentile(done, 0.95)
+        by_kind: dict[str, Tally] = {}
+        for (kind, _), tally in tallies.items():
+            merged = by_kind.setdefault(kind, Tally())
+            merged.latencies += tally.latencies
+            merged.errors += tally.errors
+        for kind, tally in by_kind.items():
             target = TARGETS_MS.get(kind)
+            p95 = percentile(tally.latencies, 0.95)
             verdict = "" if target is None else f"<= {target:.0f} ms: {'met' if p95 <= target else 'missed'}"
-            self.stdout.write(
-                f"| {kind} | {len(done) + len(tally.errors)} | {len(tally.errors)} | "
-                f"{statistics.median(done) if done else float('nan'):.0f} | {p95:.0f} | "
-                f"{max(done) if done else float('nan'):.0f} | {len(done) / elapsed:.1f} | {verdict} |"
-            )
+            self.stdout.write(self._row(kind, tally, elapsed, verdict))
             for error in tally.errors[:3]:
                 self.stdout.write(f"  error: {error}")
-        self.stdout.write(f"\nall requests: {total / elapsed:.1f} req/s")
+        total = sum(len(t.latencies) + len(t.errors) for t in by_kind.values())
+        self.stdout.write(f"\nall requests: {total / elapsed:.1f} req/s\n\nby scenario:\n")
+        self.stdout.write("| request | count | errors | p50 ms | p95 ms | max ms | req/s | scenario |")
+        self.stdout.write("|---|---:|---:|---:|---:|---:|---:|---|")
+        for (kind, title), tally in tallies.items():
+            self.stdout.write(self._row(kind, tally, elapsed, title))
+
+    @staticmethod
+    def _row(kind: str, tally: Tally, elapsed: float, last: str) -> str:
+        done = tally.latencies
+        median = statistics.median(done) if done else float("nan")
+        worst = max(done) if done else float("nan")
+        return (
+            f"| {kind} | {len(done) + len(tally.errors)} | {len(tally.errors)} | {median:.0f} | "
+            f"{percentile(done, 0.95):.0f} | {worst:.0f} | {len(done) / elapsed:.1f} | {last} |"
+        )
