@@ -80,6 +80,7 @@ def test_chart_toolbars_hold_only_local_tools_and_leave_titles_clear(page, live_
                                 return [r.left, r.top, r.right, r.bottom]; };
              return {
                id: el.id,
+               name: el.getAttribute('aria-label') || el.getAttribute('aria-labelledby'),
                buttons: el.querySelectorAll('.modebar-btn').length,
                links: [...el.querySelectorAll('a[href]')].map(a => a.href),
                logo: el.querySelectorAll('.plotlylogo').length,
@@ -92,6 +93,7 @@ def test_chart_toolbars_hold_only_local_tools_and_leave_titles_clear(page, live_
     for chart in charts:
         assert chart["buttons"] == TOOLBAR_BUTTONS, chart
         assert chart["logo"] == 0, chart
+        assert chart["name"], chart  # screen readers get the chart's name
         assert all(urlsplit(link).netloc == origin for link in chart["links"]), chart
         mode, title = chart["modebar"], chart["title"]
         assert mode is not None and title is not None, chart

@@ -95,7 +95,17 @@
     return Plotly.react(el, fitData(fig.data), fit(fig.layout || {}, width, height), config(el.plannerName));
   }
 
+  // Name the chart for screen readers by its title, unless the page already names it.
+  function label(el, layout) {
+    var text = layout && layout.title && layout.title.text;
+    if (!text || el.hasAttribute("aria-labelledby") || (el.hasAttribute("aria-label") && !el.dataset.autoLabel)) { return; }
+    el.setAttribute("role", "figure");
+    el.setAttribute("aria-label", text.replace(/<[^>]*>/g, " ").replace(/\s+/g, " ").trim());
+    el.dataset.autoLabel = "1";
+  }
+
   function draw(el, fig, name) {
+    label(el, fig.layout);
     el.plannerFigure = fig;
     el.plannerName = name;
     if (drawn.indexOf(el) < 0) { drawn.push(el); }
