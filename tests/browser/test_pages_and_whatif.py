@@ -3,7 +3,8 @@
 Selectors are ids, names and data attributes, not English wording:
 login form ``input[name=username]``, ``input[name=password]``, ``button[type=submit]``;
 results page ``#results[data-outlook-url]``, ``#whatif-form`` (its ``data-state``),
-``#whatif-form input[name=start]``, ``#whatif-cancel``, ``#headline``, chart divs ``#fig-<name>``
+``#whatif-form input[name=start]``, ``#whatif-title`` (the new scenario's name, sent as ``title``),
+``#whatif-cancel``, ``#headline``, chart divs ``#fig-<name>``
 drawn by plotly (``.js-plotly-plot``, ``.modebar``, ``.gtitle``); error pages ``[data-error-page]``
 with a ``[data-way-back]`` link. The page fixture fails any test whose page fetched from outside
 this machine.
@@ -209,13 +210,13 @@ def test_save_as_new_sends_the_name_given(page, live_server, scenario):
     sign_in(page, live_server)
     page.goto(f"{live_server.url}/scenarios/{scenario.pk}/")
     wait_for_charts(page)
-    name = page.locator("#whatif-form input[name=name]")
+    name = page.locator("#whatif-form #whatif-title")
     assert name.is_visible() and name.get_attribute("required") is not None
     name.fill("Rye shelf, Saturday stock")
     action = page.get_attribute("#whatif-form", "action")
     with page.expect_request(lambda request: request.method == "POST" and request.url.endswith(action)) as sent:
         page.click("#whatif-form [type=submit]")
-    assert "name=Rye+shelf%2C+Saturday+stock" in sent.value.post_data
+    assert "title=Rye+shelf%2C+Saturday+stock" in sent.value.post_data
 
 
 def test_missing_scenario_gets_our_404_page_with_a_way_back(page, live_server, owner):

@@ -9,7 +9,7 @@
   var form = document.getElementById("whatif-form");
   var status = document.getElementById("whatif-status");
   var headline = document.getElementById("headline");
-  var NOT_QUERIED = ["csrfmiddlewaretoken", "name"];
+  var NOT_QUERIED = ["csrfmiddlewaretoken", "title", "name"]; // the save form's own fields
   var pending = null;
   var running = null; // { controller, sequence } of the request in flight
   var sequence = 0;
@@ -30,10 +30,11 @@
   }
   cancel.hidden = true;
   var saveButton = form.querySelector("button[type=submit], input[type=submit]");
-  var nameField = form.elements.namedItem("name");
+  var nameField = document.getElementById("whatif-title") || form.elements.namedItem("title") ||
+    form.elements.namedItem("name");
   if (!nameField) {
-    var label = element("label", { "class": "whatif-name", "for": "whatif-name" }, "Name of the new scenario");
-    nameField = element("input", { type: "text", name: "name", id: "whatif-name", maxlength: "120",
+    var label = element("label", { "class": "whatif-name", "for": "whatif-title" }, "Name of the new scenario");
+    nameField = element("input", { type: "text", name: "title", id: "whatif-title", maxlength: "120",
       required: "", autocomplete: "off" });
     var heading = document.querySelector("h1");
     nameField.value = form.dataset.variantName || (heading ? heading.textContent.trim() + " (what-if)" : "");
@@ -79,18 +80,33 @@
     cancel.hidden = !busy;
   }
 
-  // The field a 400 reply is about: its "field" key when the server names one, else the message's
-  // first word when that is a field name ("start: ...", "start level must ...").
-  function markField(body) {
+  // The fields a 400 reply is about: the keys of its "fields" object when the server names them,
+  // else the message's first word when that is a field name ("start: ...", "start level must ...").
+  function markFields(body) {
     form.querySelectorAll("[aria-invalid]").forEach(function (field) { field.removeAttribute("aria-invalid"); });
     if (!body || !body.error) { return; }
+    var names = Object.keys(body.fields || {});
     var first = /^\s*([a-z_]+)/i.exec(body.error);
-    var name = body.field || (first && first[1].toLowerCase());
-    var field = name && form.elements.namedItem(name);
-    if (field && field.setAttribute) {
-      field.setAttribute("aria-invalid", "true");
-      field.setAttribute("aria-describedby", "whatif-status");
-    }
+    if (!names.length && first) { names = [first[1].toLowerCase()]; }
+    names.forEach(function (name) {
+      var field = form.elements.namedItem(name);
+      if (field && field.setAttribute) {
+        field.setAttribute("aria-invalid", "true");
+        field.setAttribute("aria-describedby", "whatif-status");
+      }
+    });
+  }
+
+  // Text alternatives follow the figures: {name: {summary, table}} when the server sends them.
+  function updateSummaries(summaries) {
+    Object.keys(summaries || {}).forEach(function (name) {
+      var text = summaries[name] && summaries[name].summary;
+      var caption = document.getElementById("fig-" + name + "-summary");
+      var chart = document.getElementById("fig-" + name);
+      if (!text) { return; }
+      if (caption) { caption.textContent = text; }
+      if (chart && chart.hasAttribute("aria-label") && !chart.dataset.autoLabel) { chart.setAttribute("aria-label", text); }
+    });
   }
 
   function stop() {
@@ -121,12 +137,13 @@
           var message = reply.body.error || (reply.code >= 500
             ? "The planner failed on these values (error " + reply.code + "); try again or change them."
             : "These values cannot be used.");
-          markField(reply.body);
+          markFields(reply.body);
           show("error", message);
           return;
         }
-        markField(null);
+        markFields(null);
         draw(reply.body.figures);
+        updateSummaries(reply.body.summaries);
         headline.innerHTML = reply.body.headline_html;
         updateLinks(qs);
         lastQuery = qs;

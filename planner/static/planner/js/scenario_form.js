@@ -57,13 +57,20 @@
         }
         var law = reply.body;
         summary.className = "muted";
-        summary.textContent = "Mean change " + law.mean.toFixed(3) + " units, variance " + law.variance.toFixed(3) +
-          (law.cycle > 1 ? "; over the " + law.cycle + "-period cycle the mean change is " + law.cycle_mean.toFixed(3) +
-          " units per period (first period shown)." : ".");
+        if (law.ready === false) { // required inputs still empty: the server's hint, no chart
+          summary.textContent = law.message || hint;
+          Plotly.purge(chart);
+          return;
+        }
+        var period = law.period || "period";
+        summary.textContent = law.summary || ("Mean change " + law.mean.toFixed(3) + " units, variance " +
+          law.variance.toFixed(3) + (law.cycle > 1 ? "; over the " + law.cycle + "-" + period +
+          " cycle the mean change is " + law.cycle_mean.toFixed(3) + " units per " + period +
+          " (first " + period + " shown)." : "."));
         Plotly.react(chart, [{ type: "bar", x: law.steps, y: law.probs, marker: { color: "#2b7a84" },
           hovertemplate: "step %{x}: %{y:.4g}<extra></extra>" }], {
           margin: { l: 44, r: 8, t: 8, b: 36 }, height: 200, paper_bgcolor: "rgba(0,0,0,0)", plot_bgcolor: "#fffdf8",
-          xaxis: { title: { text: "change in one period (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
+          xaxis: { title: { text: "change in one " + period + " (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
           yaxis: { title: { text: "probability" }, rangemode: "tozero" },
           font: { size: 11, color: "#24303f" }
         }, Object.assign(PlannerCharts.config("step-law"), { displayModeBar: false }));
