@@ -38,8 +38,10 @@ def overflow(page) -> tuple[int, int]:
 
 def wait_for_charts(page):
     page.wait_for_selector("#results .js-plotly-plot .main-svg")
+    # every figure the page carries (#figures, keyed by name) drawn into its #fig-<name>
     page.wait_for_function(
-        "() => [...document.querySelectorAll('#results [id^=fig-]')].every(el => el.querySelector('.main-svg'))"
+        "() => Object.keys(JSON.parse(document.getElementById('figures').textContent))"
+        ".every(name => document.querySelector('#fig-' + name + ' .main-svg'))"
     )
 
 
