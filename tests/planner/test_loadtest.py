@@ -36,7 +36,7 @@ def test_workload_has_each_results_page_and_what_ifs_inside_the_band():
     assert kinds.count("results page") == len(scenarios)
     assert kinds.count("what-if JSON") >= 2 * len(scenarios)
     for scenario in scenarios:
-        params = scenario.walk_params
+        params = scenario.walk_params  # the parsed parameters, against the command's reading of the JSON
         starts = [
             int(m.group(1))
             for _, title, path in jobs

@@ -104,14 +104,18 @@ class Session:
 
 
 def workload(scenarios) -> list[tuple[str, str, str]]:
-    """(kind, scenario title, path) the clients cycle through: each results page and three what-ifs."""
+    """(kind, scenario title, path) the clients cycle through: each results page, and for plans with a
+    start level three what-ifs (start one lower, as saved, one higher, kept inside the band)."""
     jobs = []
     for scenario in scenarios:
-        params = scenario.walk_params
+        saved = scenario.parameters  # the stored JSON: read the same way whatever the kind's classes are
         jobs.append(("results page", scenario.title, reverse("scenario_results", args=[scenario.pk])))
-        top = params.high if params.high is not None else params.start + 1
-        for start in sorted({max(params.low, params.start - 1), params.start, min(top, params.start + 1)}):
-            query = urlencode({"start": start, "horizon": params.horizon})
+        if "start" not in saved:
+            continue
+        start, low, high = saved["start"], saved.get("low", 0), saved.get("high")
+        top = high if high is not None else start + 1
+        for value in sorted({max(low, start - 1), start, min(top, start + 1)}):
+            query = urlencode({"start": value} | ({"horizon": saved["horizon"]} if "horizon" in saved else {}))
             path = f"{reverse('scenario_outlook_json', args=[scenario.pk])}?{query}"
             jobs.append(("what-if JSON", scenario.title, path))
     return jobs
