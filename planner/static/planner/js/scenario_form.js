@@ -5,10 +5,9 @@
   if (!form) { return; }
   var chart = document.getElementById("preview-chart");
   var summary = document.getElementById("preview-summary");
-  var stepNames = ["step_method", "up", "down", "step_table", "profile", "delivery_every", "delivery_size"];
-  ["arrivals", "demand"].forEach(function (prefix) {
-    ["family", "mean", "variance", "amount", "table"].forEach(function (part) { stepNames.push(prefix + "_" + part); });
-  });
+  // The preview gets every filled-in input but the plan's name and notes: its form takes what it
+  // needs (step law, deliveries, period) and ignores the rest, whatever the scenario kind.
+  var NOT_SENT = ["csrfmiddlewaretoken", "title", "notes"];
   var pending = null;
   var sequence = 0;
   var running = null;
@@ -36,7 +35,9 @@
 
   function preview() {
     var params = new URLSearchParams();
-    stepNames.forEach(function (name) { var v = value(name); if (v !== "") { params.append(name, v); } });
+    new FormData(form).forEach(function (v, name) {
+      if (NOT_SENT.indexOf(name) < 0 && String(v).trim() !== "") { params.append(name, v); }
+    });
     var mine = ++sequence;
     if (running) { running.abort(); }
     running = new AbortController();
