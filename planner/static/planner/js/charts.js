@@ -39,10 +39,10 @@
     return lines;
   }
 
-  // The server's layout, fitted to a chart `width` x `height` px wide: a vertical toolbar in its own
+  // The server's layout, fitted to a chart `width` x `height` px: a vertical toolbar in its own
   // right-hand column, and on narrow charts the title wrapped onto its own rows with the
-  // linear/log switch on a row below it.
-  function fit(layout, width, height) {
+  // linear/log switch on a row below it and the legend in a band at the bottom.
+  function fit(layout, width, height, data) {
     var out = Object.assign({}, layout);
     var margin = Object.assign({ l: 64, r: 18, t: 48, b: 52 }, layout.margin || {});
     margin.r = Math.max(margin.r, TOOLBAR_COLUMN);
@@ -75,6 +75,18 @@
       }
       out.title = title;
     }
+    // Narrow charts: the legend, one entry a row, in its own band under the axis title (a legend
+    // placed below the plot as a fraction of its height would land on the axis title).
+    var entries = (data || []).filter(function (trace) {
+      return trace.name && trace.showlegend !== false && trace.type !== "heatmap" && trace.type !== "contour";
+    }).length;
+    var legend = layout.legend || {};
+    if (width < NARROW && layout.showlegend !== false && entries >= 2 && !(legend.y >= 0)) {
+      var rowHeight = 18;
+      out.legend = Object.assign({}, legend, { orientation: "v", x: 0, xanchor: "left", y: 0, yref: "container",
+        yanchor: "bottom", font: Object.assign({}, legend.font || {}, { size: 11 }) });
+      margin.b = Math.max(margin.b, 56 + entries * rowHeight + 6);
+    }
     out.margin = margin;
     return out;
   }
@@ -92,7 +104,7 @@
     var fig = el.plannerFigure;
     var width = el.clientWidth || 600;
     var height = el.clientHeight || 360;
-    return Plotly.react(el, fitData(fig.data), fit(fig.layout || {}, width, height), config(el.plannerName));
+    return Plotly.react(el, fitData(fig.data), fit(fig.layout || {}, width, height, fig.data), config(el.plannerName));
   }
 
   // Name the chart for screen readers by its title, unless the page already names it.
