@@ -37,11 +37,14 @@ def overflow(page) -> tuple[int, int]:
 
 
 def wait_for_charts(page):
-    page.wait_for_selector("#results .js-plotly-plot .main-svg")
+    # A generous bound (not a speed check): the first page of a session parses plotly.js cold,
+    # on a machine other jobs may be loading.
+    page.wait_for_selector("#results .js-plotly-plot .main-svg", timeout=60_000)
     # every figure the page carries (#figures, keyed by name) drawn into its #fig-<name>
     page.wait_for_function(
         "() => Object.keys(JSON.parse(document.getElementById('figures').textContent))"
-        ".every(name => document.querySelector('#fig-' + name + ' .main-svg'))"
+        ".every(name => document.querySelector('#fig-' + name + ' .main-svg'))",
+        timeout=60_000,
     )
 
 
