@@ -2,6 +2,7 @@
 
 Selectors are ids, names and data attributes, not English wording:
 login form ``input[name=username]``, ``input[name=password]``, ``button[type=submit]``;
+form page ``#scenario-form`` (its ``data-preview-state``);
 results page ``#results[data-outlook-url]``, ``#whatif-form`` (its ``data-state``),
 ``#whatif-form input[name=start]``, ``#whatif-title`` (the new scenario's name, sent as ``title``),
 ``#whatif-cancel``, ``#headline``, chart divs ``#fig-<name>``
@@ -29,7 +30,7 @@ def sign_in(page, live_server, username="olwen"):
     page.fill("input[name=username]", username)
     page.fill("input[name=password]", PASSWORD)
     page.click("button[type=submit]")
-    page.wait_for_url(f"{live_server.url}/")
+    page.wait_for_url(f"{live_server.url}/", timeout=60_000)
 
 
 def overflow(page) -> tuple[int, int]:
@@ -71,7 +72,10 @@ def test_no_page_scrolls_sideways(page, live_server, scenario, width):
         if name == "results":
             wait_for_charts(page)
         if name in {"new", "edit"}:
-            page.wait_for_load_state("networkidle")
+            # the live preview has answered (shown, or waiting for inputs on an untouched form)
+            page.wait_for_selector(
+                "#scenario-form[data-preview-state]:not([data-preview-state=busy])", state="attached", timeout=60_000
+            )
         seen[name] = overflow(page)
     too_wide = {name: sizes for name, sizes in seen.items() if sizes[0] > sizes[1]}
     assert not too_wide, f"pages wider than the {width} px window: {too_wide}"

@@ -1,4 +1,5 @@
 // Scenario form: show the inputs the chosen step law needs and preview that law as it is typed.
+// The form's data-preview-state says where the preview is: busy, shown, waiting (inputs missing) or error.
 (function () {
   "use strict";
   var form = document.getElementById("scenario-form");
@@ -39,6 +40,7 @@
       if (NOT_SENT.indexOf(name) < 0 && String(v).trim() !== "") { params.append(name, v); }
     });
     var mine = ++sequence;
+    form.dataset.previewState = "busy";
     if (running) { running.abort(); }
     running = new AbortController();
     fetch(form.dataset.previewUrl + "?" + params.toString(), { credentials: "same-origin", signal: running.signal })
@@ -54,6 +56,7 @@
           var first = Object.keys(errors)[0];
           summary.textContent = touched && first ? errors[first][0] : hint;
           summary.className = touched && first ? "field-error" : "muted";
+          form.dataset.previewState = touched && first ? "error" : "waiting";
           return;
         }
         var law = reply.body;
@@ -61,6 +64,7 @@
         if (law.ready === false) { // required inputs still empty: the server's hint, no chart
           summary.textContent = law.message || hint;
           Plotly.purge(chart);
+          form.dataset.previewState = "waiting";
           return;
         }
         var period = law.period || "period";
@@ -75,8 +79,12 @@
           yaxis: { title: { text: "probability" }, rangemode: "tozero" },
           font: { size: 11, color: "#24303f" }
         }, Object.assign(PlannerCharts.config("step-law"), { displayModeBar: false }));
+        form.dataset.previewState = "shown";
       })
-      .catch(function () { /* aborted by a newer preview, or offline: the next input tries again */ });
+      .catch(function () {
+        // aborted by a newer preview (which owns the state now), or offline: the next input tries again
+        if (mine === sequence) { form.dataset.previewState = "error"; }
+      });
   }
 
   form.addEventListener("input", function () {
