@@ -1,12 +1,18 @@
 # Two commands do all set-up on a fresh machine:
 #   make run   - creates .venv if missing, migrates SQLite, loads demo data, serves on :8000
+#                with DEBUG off as in production (own error pages, static files through WhiteNoise);
+#                the secret key is generated once into .secret_key (git-ignored). DEBUG=1 make run
+#                gives Django's debug pages instead.
 #   make test  - creates .venv if missing, runs the whole suite (lint included)
 PYTHON ?= python3
 VENV := .venv
 BIN := $(VENV)/bin
 HOST ?= 127.0.0.1:8000
+SECRET_KEY_FILE := .secret_key
+# A key from the environment wins; otherwise the local generated one.
+RUN_ENV = SECRET_KEY="$${SECRET_KEY:-$$(cat $(SECRET_KEY_FILE))}"
 
-.PHONY: run test test-prescott bench lint
+.PHONY: run test test-prescott bench loadtest lint
 
 $(BIN)/.installed: requirements.txt
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -14,10 +20,14 @@ $(BIN)/.installed: requirements.txt
 	$(BIN)/pip install --quiet -r requirements.txt
 	touch $@
 
-run: $(BIN)/.installed
-	$(BIN)/python manage.py migrate --noinput
-	$(BIN)/python manage.py load_demo
-	$(BIN)/python manage.py runserver $(HOST)
+$(SECRET_KEY_FILE):
+	umask 077 && $(PYTHON) -c "import secrets; print(secrets.token_urlsafe(48))" > $@
+
+run: $(BIN)/.installed $(SECRET_KEY_FILE)
+	$(RUN_ENV) $(BIN)/python manage.py migrate --noinput
+	$(RUN_ENV) $(BIN)/python manage.py load_demo
+	$(RUN_ENV) $(BIN)/python manage.py collectstatic --noinput --verbosity 0
+	$(RUN_ENV) $(BIN)/python manage.py runserver $(HOST)
 
 test: $(BIN)/.installed
 	$(BIN)/ruff check walkmath planner tests
@@ -31,6 +41,12 @@ test-prescott: $(BIN)/.installed
 
 bench: $(BIN)/.installed
 	$(BIN)/python -m walkmath.bench
+
+# gunicorn with 2 workers, 8 concurrent clients on the demo scenarios (loads them first)
+loadtest: $(BIN)/.installed $(SECRET_KEY_FILE)
+	$(RUN_ENV) $(BIN)/python manage.py migrate --noinput
+	$(RUN_ENV) $(BIN)/python manage.py load_demo
+	$(RUN_ENV) $(BIN)/python manage.py loadtest
 
 lint: $(BIN)/.installed
 	$(BIN)/ruff check walkmath planner tests

@@ -1,7 +1,8 @@
 """Settings for the planner, every one from the environment with a stated default.
 
-DEBUG           "1"/"0", default "1" (a fresh clone runs as a local tool)
-SECRET_KEY      required when DEBUG is off; a fixed development key otherwise
+DEBUG           "1"/"0", default "0": debug pages only when the environment asks for them
+SECRET_KEY      required (32+ characters) when DEBUG is off; a fixed development key otherwise.
+                `make run` keeps a generated local key in .secret_key (git-ignored).
 DATABASE_URL    default: SQLite file db.sqlite3 beside manage.py
 ALLOWED_HOSTS   comma-separated, default "localhost,127.0.0.1,[::1]"
 PLANNER_COMPUTE_CAP  largest work one web request computes, in walkmath cost units, default 1200000000
@@ -25,7 +26,7 @@ def _flag(name: str, default: str) -> bool:
     return value in {"1", "true", "yes", "on"}
 
 
-DEBUG = _flag("DEBUG", "1")
+DEBUG = _flag("DEBUG", "0")
 SECRET_KEY = os.environ.get("SECRET_KEY", "" if not DEBUG else _DEV_KEY)
 if not DEBUG and (not SECRET_KEY or SECRET_KEY == _DEV_KEY or len(SECRET_KEY) < 32):
     raise ImproperlyConfigured("SECRET_KEY must be set to a random string of 32+ characters when DEBUG is off")

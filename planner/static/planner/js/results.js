@@ -1,4 +1,6 @@
 // Results page: draw the figures, then redraw them from the what-if endpoint as values change.
+// Only the newest request may land: each new one aborts the one before, and a reply that arrives
+// after a newer request started is dropped. While one runs, the page says so and offers Cancel.
 (function () {
   "use strict";
   var root = document.getElementById("results");
@@ -7,24 +9,57 @@
   var form = document.getElementById("whatif-form");
   var status = document.getElementById("whatif-status");
   var headline = document.getElementById("headline");
-  var config = { responsive: true, displaylogo: false, modeBarButtonsToRemove: ["lasso2d", "select2d"] };
-  var initial = new FormData(form);
+  var NOT_QUERIED = ["csrfmiddlewaretoken", "title", "name"]; // the save form's own fields
   var pending = null;
+  var running = null; // { controller, sequence } of the request in flight
   var sequence = 0;
+  var lastQuery = null;
 
-  function draw(all, first) {
+  function element(tag, attrs, text) {
+    var el = document.createElement(tag);
+    Object.keys(attrs).forEach(function (key) { el.setAttribute(key, attrs[key]); });
+    if (text) { el.textContent = text; }
+    return el;
+  }
+
+  // Markup may provide these; otherwise they are added here so the template need not change.
+  var cancel = document.getElementById("whatif-cancel");
+  if (!cancel) {
+    cancel = element("button", { type: "button", id: "whatif-cancel", "class": "quiet small" }, "Cancel update");
+    status.insertAdjacentElement("afterend", cancel);
+  }
+  cancel.hidden = true;
+  var saveButton = form.querySelector("button[type=submit], input[type=submit]");
+  var nameField = document.getElementById("whatif-title") || form.elements.namedItem("title") ||
+    form.elements.namedItem("name");
+  if (!nameField) {
+    var label = element("label", { "class": "whatif-name", "for": "whatif-title" }, "Name of the new scenario");
+    nameField = element("input", { type: "text", name: "title", id: "whatif-title", maxlength: "120",
+      required: "", autocomplete: "off" });
+    var heading = document.querySelector("h1");
+    nameField.value = form.dataset.variantName || (heading ? heading.textContent.trim() + " (what-if)" : "");
+    label.appendChild(nameField);
+    (saveButton ? saveButton.closest(".row") || saveButton : status).insertAdjacentElement("beforebegin", label);
+  }
+  var initial = new FormData(form);
+
+  function figureName(name) {
+    var heading = document.querySelector("h1");
+    var base = heading ? heading.textContent.trim().toLowerCase().replace(/[^a-z0-9]+/g, "-").replace(/^-|-$/g, "") : "";
+    return (base ? base + "-" : "") + name;
+  }
+
+  function draw(all) {
     Object.keys(all).forEach(function (name) {
       var el = document.getElementById("fig-" + name);
-      if (!el) { return; }
-      var fig = all[name];
-      (first ? Plotly.newPlot : Plotly.react)(el, fig.data, fig.layout, config);
+      if (el) { PlannerCharts.draw(el, all[name], figureName(name)); }
     });
   }
 
   function query() {
     var params = new URLSearchParams();
     new FormData(form).forEach(function (value, key) {
-      if (key === "csrfmiddlewaretoken") { return; }
+      if (NOT_QUERIED.indexOf(key) >= 0) { return; }
       if (String(value).trim() !== "") { params.append(key, value); }
     });
     return params.toString();
@@ -36,53 +71,133 @@
     });
   }
 
+  function show(state, text) {
+    status.textContent = text;
+    status.className = "whatif-status " + state;
+    form.dataset.state = state;
+    var busy = state === "busy";
+    root.setAttribute("aria-busy", busy ? "true" : "false");
+    cancel.hidden = !busy;
+  }
+
+  // The fields a 400 reply is about: the keys of its "fields" object when the server names them,
+  // else the message's first word when that is a field name ("start: ...", "start level must ...").
+  function markFields(body) {
+    form.querySelectorAll("[aria-invalid]").forEach(function (field) { field.removeAttribute("aria-invalid"); });
+    if (!body || !body.error) { return; }
+    var names = Object.keys(body.fields || {});
+    var first = /^\s*([a-z_]+)/i.exec(body.error);
+    if (!names.length && first) { names = [first[1].toLowerCase()]; }
+    names.forEach(function (name) {
+      var field = form.elements.namedItem(name);
+      if (field && field.setAttribute) {
+        field.setAttribute("aria-invalid", "true");
+        field.setAttribute("aria-describedby", "whatif-status");
+      }
+    });
+  }
+
+  // Text alternatives follow the figures: {name: {summary, table}} when the server sends them.
+  function updateSummaries(summaries) {
+    Object.keys(summaries || {}).forEach(function (name) {
+      var text = summaries[name] && summaries[name].summary;
+      var caption = document.getElementById("fig-" + name + "-summary");
+      var chart = document.getElementById("fig-" + name);
+      if (!text) { return; }
+      if (caption) { caption.textContent = text; }
+      if (chart && chart.hasAttribute("aria-label") && !chart.dataset.autoLabel) { chart.setAttribute("aria-label", text); }
+    });
+  }
+
+  function stop() {
+    if (running) { running.controller.abort(); running = null; }
+  }
+
   function refresh() {
+    clearTimeout(pending);
+    stop();
     var qs = query();
-    var mine = ++sequence;
-    status.textContent = "Updating…";
-    status.className = "whatif-status busy";
-    fetch(root.dataset.outlookUrl + "?" + qs, { headers: { Accept: "application/json" }, credentials: "same-origin" })
+    var mine = { controller: new AbortController(), sequence: ++sequence };
+    running = mine;
+    show("busy", "Updating…");
+    fetch(root.dataset.outlookUrl + "?" + qs, {
+      headers: { Accept: "application/json" }, credentials: "same-origin", signal: mine.controller.signal
+    })
       .then(function (response) {
-        return response.json().then(function (body) { return { ok: response.ok, body: body, timing: response.headers.get("Server-Timing") }; });
+        var json = (response.headers.get("Content-Type") || "").indexOf("json") >= 0;
+        var body = json ? response.json() : Promise.resolve({});
+        return body.then(function (data) {
+          return { ok: response.ok, code: response.status, body: data, timing: response.headers.get("Server-Timing") };
+        });
       })
       .then(function (reply) {
-        if (mine !== sequence) { return; }
+        if (mine.sequence !== sequence) { return; } // a newer request owns the page now
+        running = null;
         if (!reply.ok) {
-          status.textContent = reply.body.error || "These values cannot be used.";
-          status.className = "whatif-status error";
+          var message = reply.body.error || (reply.code >= 500
+            ? "The planner failed on these values (error " + reply.code + "); try again or change them."
+            : "These values cannot be used.");
+          markFields(reply.body);
+          show("error", message);
           return;
         }
-        draw(reply.body.figures, false);
+        markFields(null);
+        draw(reply.body.figures);
+        updateSummaries(reply.body.summaries);
         headline.innerHTML = reply.body.headline_html;
         updateLinks(qs);
+        lastQuery = qs;
         var ms = /dur=([0-9.]+)/.exec(reply.timing || "");
-        status.textContent = "Updated" + (ms ? " in " + Math.round(parseFloat(ms[1])) + " ms" : "") + ".";
-        status.className = "whatif-status done";
+        show("done", "Updated" + (ms ? " in " + Math.round(parseFloat(ms[1])) + " ms" : "") + ".");
       })
-      .catch(function () {
-        if (mine !== sequence) { return; }
-        status.textContent = "Could not reach the planner; check the connection.";
-        status.className = "whatif-status error";
+      .catch(function (error) {
+        if (mine.sequence !== sequence || (error && error.name === "AbortError")) { return; }
+        running = null;
+        show("error", "Could not reach the planner; check the connection.");
       });
   }
 
-  function syncCapacity() {
-    form.elements.namedItem("no_capacity").value = form.elements.namedItem("high").value.trim() === "" ? "on" : "";
+  function schedule() {
+    clearTimeout(pending);
+    stop(); // the request in flight answers values that are no longer on screen
+    show("busy", "Updating…");
+    pending = setTimeout(refresh, 250);
   }
 
-  form.addEventListener("input", function () {
+  function syncCapacity() {
+    var high = form.elements.namedItem("high");
+    var none = form.elements.namedItem("no_capacity");
+    if (high && none) { none.value = high.value.trim() === "" ? "on" : ""; }
+  }
+
+  form.addEventListener("input", function (event) {
+    if (event.target === nameField) { return; }
     syncCapacity();
+    schedule();
+  });
+  // Enter in a what-if value recomputes at once; only the Save button (or Enter in the name) saves.
+  form.addEventListener("keydown", function (event) {
+    if (event.key === "Enter" && event.target !== nameField && event.target.tagName === "INPUT") {
+      event.preventDefault();
+      refresh();
+    }
+  });
+  cancel.addEventListener("click", function () {
     clearTimeout(pending);
-    pending = setTimeout(refresh, 250);
+    sequence++;
+    stop();
+    show("cancelled", lastQuery === null
+      ? "Update cancelled: the figures still show the saved values."
+      : "Update cancelled: the figures show the last values computed.");
   });
   document.getElementById("whatif-reset").addEventListener("click", function () {
     initial.forEach(function (value, key) {
       var field = form.elements.namedItem(key);
-      if (field && key !== "csrfmiddlewaretoken") { field.value = value; }
+      if (field && NOT_QUERIED.indexOf(key) < 0) { field.value = value; }
     });
     syncCapacity();
     refresh();
   });
   syncCapacity();
-  draw(figures, true);
+  draw(figures);
 })();

@@ -1,16 +1,19 @@
 // Scenario form: show the inputs the chosen step law needs and preview that law as it is typed.
+// The form's data-preview-state says where the preview is: busy, shown, waiting (inputs missing) or error.
 (function () {
   "use strict";
   var form = document.getElementById("scenario-form");
   if (!form) { return; }
   var chart = document.getElementById("preview-chart");
   var summary = document.getElementById("preview-summary");
-  var stepNames = ["step_method", "up", "down", "step_table", "profile", "delivery_every", "delivery_size"];
-  ["arrivals", "demand"].forEach(function (prefix) {
-    ["family", "mean", "variance", "amount", "table"].forEach(function (part) { stepNames.push(prefix + "_" + part); });
-  });
+  // The preview gets every filled-in input but the plan's name and notes: its form takes what it
+  // needs (step law, deliveries, period) and ignores the rest, whatever the scenario kind.
+  var NOT_SENT = ["csrfmiddlewaretoken", "title", "notes"];
   var pending = null;
   var sequence = 0;
+  var running = null;
+  var touched = false; // an untouched form shows the hint, never an error
+  var hint = summary.textContent;
 
   function value(name) {
     var checked = form.querySelector("[name='" + name + "']:checked");
@@ -33,35 +36,59 @@
 
   function preview() {
     var params = new URLSearchParams();
-    stepNames.forEach(function (name) { var v = value(name); if (v !== "") { params.append(name, v); } });
+    new FormData(form).forEach(function (v, name) {
+      if (NOT_SENT.indexOf(name) < 0 && String(v).trim() !== "") { params.append(name, v); }
+    });
     var mine = ++sequence;
-    fetch(form.dataset.previewUrl + "?" + params.toString(), { credentials: "same-origin" })
-      .then(function (response) { return response.json().then(function (body) { return { ok: response.ok, body: body }; }); })
+    form.dataset.previewState = "busy";
+    if (running) { running.abort(); }
+    running = new AbortController();
+    fetch(form.dataset.previewUrl + "?" + params.toString(), { credentials: "same-origin", signal: running.signal })
+      .then(function (response) {
+        var json = (response.headers.get("Content-Type") || "").indexOf("json") >= 0;
+        return (json ? response.json() : Promise.resolve({})).then(function (body) { return { ok: response.ok, body: body }; });
+      })
       .then(function (reply) {
         if (mine !== sequence) { return; }
+        running = null;
         if (!reply.ok) {
           var errors = reply.body.errors || {};
           var first = Object.keys(errors)[0];
-          summary.textContent = first ? errors[first][0] : "Fill in the step law to see it here.";
-          summary.className = "field-error";
+          summary.textContent = touched && first ? errors[first][0] : hint;
+          summary.className = touched && first ? "field-error" : "muted";
+          form.dataset.previewState = touched && first ? "error" : "waiting";
           return;
         }
         var law = reply.body;
         summary.className = "muted";
-        summary.textContent = "Mean change " + law.mean.toFixed(3) + " units, variance " + law.variance.toFixed(3) +
-          (law.cycle > 1 ? "; over the " + law.cycle + "-period cycle the mean change is " + law.cycle_mean.toFixed(3) +
-          " units per period (first period shown)." : ".");
+        if (law.ready === false) { // required inputs still empty: the server's hint, no chart
+          summary.textContent = law.message || hint;
+          Plotly.purge(chart);
+          form.dataset.previewState = "waiting";
+          return;
+        }
+        var period = law.period || "period";
+        summary.textContent = law.summary || ("Mean change " + law.mean.toFixed(3) + " units, variance " +
+          law.variance.toFixed(3) + (law.cycle > 1 ? "; over the " + law.cycle + "-" + period +
+          " cycle the mean change is " + law.cycle_mean.toFixed(3) + " units per " + period +
+          " (first " + period + " shown)." : "."));
         Plotly.react(chart, [{ type: "bar", x: law.steps, y: law.probs, marker: { color: "#2b7a84" },
           hovertemplate: "step %{x}: %{y:.4g}<extra></extra>" }], {
           margin: { l: 44, r: 8, t: 8, b: 36 }, height: 200, paper_bgcolor: "rgba(0,0,0,0)", plot_bgcolor: "#fffdf8",
-          xaxis: { title: { text: "change in one period (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
+          xaxis: { title: { text: "change in one " + period + " (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
           yaxis: { title: { text: "probability" }, rangemode: "tozero" },
           font: { size: 11, color: "#24303f" }
-        }, { displayModeBar: false, responsive: true });
+        }, Object.assign(PlannerCharts.config("step-law"), { displayModeBar: false }));
+        form.dataset.previewState = "shown";
+      })
+      .catch(function () {
+        // aborted by a newer preview (which owns the state now), or offline: the next input tries again
+        if (mine === sequence) { form.dataset.previewState = "error"; }
       });
   }
 
   form.addEventListener("input", function () {
+    touched = true;
     showGroups();
     clearTimeout(pending);
     pending = setTimeout(preview, 200);
