@@ -143,13 +143,24 @@ def _apply(lower: int, rows: np.ndarray, vector: np.ndarray) -> np.ndarray:
 
 
 def _product(lower_a, upper_a, rows_a, lower_b, upper_b, rows_b):
-    """A B for band matrices in row form, one pass over A per diagonal of B (non-negative terms)."""
+    """A B for band matrices in row form (non-negative terms), looping over the narrower factor's diagonals.
+
+    (A B)[i, i + o_a + o_b] gathers A[i, i + o_a] B[i + o_a, i + o_a + o_b]: with B's rows shifted
+    into ``shifted`` (row i + a holds B's row i + a - lower_a), each diagonal a of A adds one
+    scaled slice of ``shifted``; each diagonal b of B adds A times one column of its windows.
+    """
     size, width_a = rows_a.shape
-    out = np.zeros((size, width_a + rows_b.shape[1] - 1))
-    padded = np.zeros(size + width_a - 1)
-    for column in range(rows_b.shape[1]):
-        padded[lower_a : lower_a + size] = rows_b[:, column]  # B[m, m + column - lower_b] at m
-        out[:, column : column + width_a] += rows_a * sliding_window_view(padded, width_a)
+    width_b = rows_b.shape[1]
+    out = np.zeros((size, width_a + width_b - 1))
+    shifted = np.zeros((size + width_a - 1, width_b))
+    shifted[lower_a : lower_a + size] = rows_b
+    if width_a <= width_b:
+        for a in range(width_a):
+            out[:, a : a + width_b] += rows_a[:, a : a + 1] * shifted[a : a + size]
+    else:
+        windows = sliding_window_view(shifted, width_a, axis=0)  # windows[i, b, a] = shifted[i + a, b]
+        for b in range(width_b):
+            out[:, b : b + width_a] += rows_a * windows[:, b, :]
     lower, upper = min(lower_a + lower_b, size - 1), min(upper_a + upper_b, size - 1)
     first = lower_a + lower_b - lower
     return lower, upper, out[:, first : first + lower + upper + 1].copy()

@@ -236,18 +236,24 @@ def substochastic_band(law: StepLaw, size: int, rules: Rules) -> tuple[int, int,
     # Bandwidths never exceed the band: a longer step leaves it, and a held end lies within size - 1.
     lower, upper = min(max(-law.lowest, 0), size - 1), min(max(law.highest, 0), size - 1)
     band = np.zeros((lower + upper + 1, size))
+    for step in range(-lower, upper + 1):  # one diagonal per step that can stay in the band
+        weight = law.prob(step)
+        if weight:
+            band[upper - step, max(step, 0) : size + min(step, 0)] = weight  # columns j = i + step
+    levels, width = np.arange(size), law.probs.size
+    from_below = np.concatenate(([0.0], np.cumsum(law.probs)))  # from_below[k] = sum of probs[:k]
+    from_above = np.concatenate((np.cumsum(law.probs[::-1])[::-1], [0.0]))  # from_above[k] = sum of probs[k:]
+    under = from_below[np.clip(-levels - law.lowest, 0, width)]  # P(leave below) from each level
+    over = from_above[np.clip(size - levels - law.lowest, 0, width)]  # P(leave above)
     ending = np.zeros(size)
-    levels = np.arange(size)
-    for offset, weight in enumerate(law.probs):
-        if weight == 0.0:
-            continue
-        target = levels + law.lowest + offset
-        under, over = target < 0, target >= size
-        inside = ~(under | over)
-        np.add.at(band, (upper + levels[inside] - target[inside], target[inside]), weight)
-        for leaving, behaviour, end_level in ((under, rules.at_low, 0), (over, rules.at_high, size - 1)):
-            if behaviour == HOLD:
-                np.add.at(band, (upper + levels[leaving] - end_level, np.full(leaving.sum(), end_level)), weight)
-            else:  # ends (a walking end is cut here: the caller's band must be wide enough)
-                ending[leaving] += weight
+    if rules.at_low == HOLD:  # the mass held at low sits in column 0, row i: band[upper + i, 0]
+        rows = np.flatnonzero(under)
+        band[upper + rows, 0] += under[rows]
+    else:  # ends (a walking end is cut here: the caller's band must be wide enough)
+        ending += under
+    if rules.at_high == HOLD:  # column size - 1: band[upper + i - (size - 1), size - 1]
+        rows = np.flatnonzero(over)
+        band[upper + rows - (size - 1), size - 1] += over[rows]
+    else:
+        ending += over
     return lower, upper, band, ending

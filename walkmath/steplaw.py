@@ -9,6 +9,7 @@ and the rest renormalised.
 
 from __future__ import annotations
 
+import functools
 import itertools
 import math
 from collections.abc import Iterable, Mapping
@@ -235,15 +236,11 @@ class StepLaw:
         """
         family = checks.choice("family", family, ("poisson", "negative_binomial"))
         mean = checks.real("mean", mean, minimum=0.0, maximum=1e6)
-        if mean == 0:
-            return 1
-        if family == "poisson":
-            return _count_cut(stats.poisson(mean), "poisson", "the mean") + 1
-        variance = checks.real("variance", variance, minimum=0.0, maximum=1e12)
-        if variance <= mean:
-            raise ValueError(f"variance must exceed the mean ({mean:g}) for a negative binomial; got {variance:g}")
-        dist = stats.nbinom(mean * mean / (variance - mean), mean / variance)
-        return _count_cut(dist, "negative_binomial", "the mean or the variance") + 1
+        if family == "negative_binomial":
+            variance = checks.real("variance", variance, minimum=0.0, maximum=1e12)
+            if variance <= mean:
+                raise ValueError(f"variance must exceed the mean ({mean:g}) for a negative binomial; got {variance:g}")
+        return _count_width(family, mean, variance if family == "negative_binomial" else None)
 
     # -- properties ---------------------------------------------------------
 
@@ -299,6 +296,17 @@ class StepLaw:
 def _check_width(name: str, width: int) -> None:
     if width > MAX_JUMPS:
         raise ValueError(f"{name} must be at most {MAX_JUMPS:,} (MAX_JUMPS); got {width:,}")
+
+
+@functools.lru_cache(maxsize=256)
+def _count_width(family: str, mean: float, variance: float | None) -> int:
+    """``StepLaw.count_width`` for checked numbers (cached: forms price the same laws again and again)."""
+    if mean == 0:
+        return 1
+    if family == "poisson":
+        return _count_cut(stats.poisson(mean), "poisson", "the mean") + 1
+    dist = stats.nbinom(mean * mean / (variance - mean), mean / variance)
+    return _count_cut(dist, "negative_binomial", "the mean or the variance") + 1
 
 
 def _count_cut(dist, label: str, knob: str) -> int:
