@@ -202,30 +202,31 @@ class BandedWalk:
         forward = Forward(copies, size, self.low - grid_low, band_hi)
         mass = np.zeros((len(copies), size))
         mass[:, self.start - grid_low] = 1.0
-        curves = np.zeros((6, horizon + 1))  # stockout, overflow, stock-out periods, lost, spilled, alive
-        curves[5, 0] = 1.0
-        ended_low, ended_high = np.zeros(len(copies)), np.zeros(len(copies))
+        counts_stockout = bool(forward.end_low[stockout_copy])  # which copies' ended mass the curves are
+        counts_overflow = bool(forward.end_high[overflow_copy])
+        ended_low = ended_high = 0.0  # running sums of non-negative terms
+        stockout, overflow, fell, lost, spilled, alive = (np.zeros(horizon + 1) for _ in range(6))
+        alive[0] = 1.0
         by_period = np.zeros((horizon + 1, size)) if keep_levels else None
         if keep_levels:
             by_period[0] = mass[0]
         reach = (self.start - grid_low,) * 2
         for period in range(1, horizon + 1):
             if reach[0] > reach[1]:  # every path has ended: the curves stay where they are
-                curves[:2, period] = curves[:2, period - 1]
+                stockout[period], overflow[period] = ended_low, ended_high
                 continue
             reach, flows = forward.step(mass, reach, self.law_for_period(period))
-            ended_low += np.where(forward.end_low, flows.fell, 0.0)  # sums of non-negative terms
-            ended_high += np.where(forward.end_high, flows.rose, 0.0)
-            curves[:5, period] = (
-                ended_low[stockout_copy],
-                ended_high[overflow_copy],
-                flows.fell[0],
-                flows.lost_units,
-                flows.spilled_units,
-            )
-            curves[5, period] = mass[0, reach[0] : reach[1] + 1].sum() if reach[0] <= reach[1] else 0.0
+            if counts_stockout:
+                ended_low += flows.fell[stockout_copy]
+            if counts_overflow:
+                ended_high += flows.rose[overflow_copy]
+            stockout[period], overflow[period], fell[period] = ended_low, ended_high, flows.fell[0]
+            lost[period], spilled[period] = flows.lost_units, flows.spilled_units
+            if reach[0] <= reach[1]:
+                alive[period] = mass[0, reach[0] : reach[1] + 1].sum()
             if keep_levels:
                 by_period[period] = mass[0]
+        curves = np.array([stockout, overflow, fell, lost, spilled, alive])  # stock-out periods from ``fell``
         if self.below == "stop":
             curves[2] = curves[0]
         else:  # expected number of periods ending in a stock-out: a running sum of non-negative terms
