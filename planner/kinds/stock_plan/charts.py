@@ -26,7 +26,7 @@ from planner.chart_layout import (
 from planner.formatting import period_name, probability, units
 from planner.kinds.stock_plan.compute import StockResult
 
-MAX_HEATMAP_CELLS = 40_000  # beyond this the stock heat map shows every k-th period (keeps the JSON near 1 MB)
+MAX_HEATMAP_CELLS = 12_000  # beyond this the heat map shows every k-th period (a chart, not the table: CSV has all)
 HEATMAP_FLOOR = 1e-9  # stock levels never reaching this probability are trimmed from the heat map
 
 
