@@ -21,21 +21,18 @@ from dataclasses import dataclass
 import numpy as np
 
 from walkmath import checks
+from walkmath.uniformization import (
+    UNIFORMIZATION_CAP,
+    PassageCurve,
+    _point_law,
+    _uniformized,
+    absorption_curve,
+    peak_relative_weights,
+)
 
-# Poisson weights below this fraction of the weight at the mode are dropped. The dropped mass
-# (reported, always far below the design's 1e-15) can add at most that much to any entry, so a
-# transient probability p keeps relative accuracy 1e-8 down to p of about 1e-290.
-WEIGHT_FLOOR = 1e-300
-# Largest Poisson mean gamma * t accepted. The work is about gamma t + 40 sqrt(gamma t) vector
-# updates of the K + 1 levels: around a minute at the cap for a small chain.
-UNIFORMIZATION_CAP = 1e7
 # Largest number of levels of a chain, and largest rate (so a level's total outflow stays finite).
 LEVEL_CAP = 1_000_000
 RATE_CAP = 1e300
-# Uniformization steps held at once before they are weighted by a matrix product, and the most
-# entries such a block may hold (32 MB).
-STEP_BLOCK = 256
-BLOCK_ENTRIES = 4_000_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -44,21 +41,6 @@ class TransientLaw:
 
     probs: np.ndarray
     dropped_mass: float  # upper bound on the Poisson mass left out; the probs are renormalised
-    steps: int  # uniformization steps taken (the work done)
-
-
-@dataclass(frozen=True, eq=False)
-class PassageCurve:
-    """P(target reached by t) and P(not reached by t) at each of ``times`` (in the caller's order).
-
-    Over increasing times ``reached`` never falls and ``not_reached`` never rises, by construction
-    (see ``absorption_curve``); each side keeps its relative accuracy while it is at most 1/2.
-    """
-
-    times: np.ndarray
-    reached: np.ndarray
-    not_reached: np.ndarray
-    dropped_mass: float  # upper bound on the Poisson mass left out, summed over the intervals
     steps: int  # uniformization steps taken (the work done)
 
 
@@ -217,172 +199,6 @@ class BirthDeath:
         return f"BirthDeath(levels 0..{self.top}, uniformization rate {self.uniformization_rate:.6g})"
 
 
-# -- uniformization --------------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class _PoissonWindow:
-    first: int  # weights[i] = P(N = first + i), normalised over the window
-    weights: np.ndarray
-    dropped: float  # upper bound on the Poisson mass outside the window
-
-
-def _poisson_window(mean: float) -> _PoissonWindow:
-    """Poisson(mean) weights from the mode outwards until they fall below ``WEIGHT_FLOOR`` of the mode's.
-
-    Ratios w_{k+1}/w_k = mean/(k+1) and w_{k-1}/w_k = k/mean keep shrinking beyond either cut, so
-    each dropped tail is at most a geometric series on its first term (Fox and Glynn 1988).
-    """
-    if mean == 0:
-        return _PoissonWindow(0, np.ones(1), 0.0)
-    mode = math.floor(mean)
-    reach = int(8 * math.sqrt(mean)) + 64
-    while True:  # upper[j - 1] = w_{mode + j} / w_mode
-        upper = np.cumprod(mean / (mode + np.arange(1, reach + 1)))
-        if upper[-1] < WEIGHT_FLOOR:
-            break
-        reach *= 2
-    cut = int(np.argmax(upper < WEIGHT_FLOOR))  # level mode + cut + 1 is the first dropped
-    upper_tail = upper[cut] / (1.0 - mean / (mode + cut + 2))
-    upper = upper[:cut]
-
-    lower, lower_tail = np.empty(0), 0.0
-    reach = min(int(8 * math.sqrt(mean)) + 64, mode)
-    while reach > 0:  # lower[j - 1] = w_{mode - j} / w_mode
-        lower = np.cumprod(np.arange(mode, mode - reach, -1) / mean)
-        if reach == mode or lower[-1] < WEIGHT_FLOOR:
-            break
-        reach = min(2 * reach, mode)
-    below = np.flatnonzero(lower < WEIGHT_FLOOR)
-    if below.size:
-        cut = int(below[0])  # level mode - cut - 1 is the first dropped
-        lower_tail = lower[cut] / (1.0 - (mode - cut - 1) / mean)
-        lower = lower[:cut]
-
-    weights = np.concatenate((lower[::-1], [1.0], upper))
-    total = math.fsum(weights)
-    return _PoissonWindow(mode - lower.size, weights / total, (lower_tail + upper_tail) / total)
-
-
-def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> tuple[np.ndarray, np.ndarray, int]:
-    """Laws at each of ``times`` (rows) from the law ``initial`` at time 0, dropped Poisson mass per
-    time, steps taken.
-
-    The vectors v_n = p0 P^n are made STEP_BLOCK at a time by a tridiagonal update and weighted
-    into every time's result by one matrix product of non-negative terms.
-    """
-    size = chain.birth.size
-    rate = chain.uniformization_rate
-    result = np.zeros((times.size, size))
-    if rate == 0:
-        result[:] = initial
-        return result, np.zeros(times.size), 0
-    windows = [_poisson_window(rate * t) for t in times]
-    steps = max(window.first + window.weights.size for window in windows)
-    # P = I + Q / gamma; the stay probability is exactly non-negative because gamma is the maximum
-    stay = (rate - (chain.birth + chain.death)) / rate
-    up_from = chain.birth[:-1] / rate  # level k -> k + 1, for k = 0..K-1
-    down_from = chain.death[1:] / rate  # level k -> k - 1, for k = 1..K
-    block = np.empty((max(1, min(STEP_BLOCK, steps, BLOCK_ENTRIES // size)), size))
-    scratch = np.empty(size)
-    current = np.array(initial, dtype=float)
-    for begin in range(0, steps, block.shape[0]):
-        rows = min(block.shape[0], steps - begin)
-        block[0] = current
-        for row in range(1, rows):
-            _step(block[row - 1], block[row], stay, up_from, down_from, scratch)
-        weights = np.zeros((times.size, rows))
-        for i, window in enumerate(windows):
-            low = max(begin, window.first)
-            high = min(begin + rows, window.first + window.weights.size)
-            if low < high:
-                weights[i, low - begin : high - begin] = window.weights[low - window.first : high - window.first]
-        if weights.any():
-            result += weights @ block[:rows]
-        _step(block[rows - 1], current, stay, up_from, down_from, scratch)
-    np.minimum(result, 1.0, out=result)  # a certain level may sum to 1 + 1 ulp
-    return result, np.array([window.dropped for window in windows]), steps
-
-
-def absorption_curve(chain: BirthDeath, start: int, times: np.ndarray) -> PassageCurve:
-    """P(top level K reached by t) and P(not reached) for each of ``times``; K must absorb.
-
-    The times are taken in increasing order. Over each gap dt the law of the level given that K is
-    not reached yet (the conditional law) is carried forward by uniformization; the mass it sends
-    into K is the gap's absorbed share q, the mass it keeps the kept share f = kept / (kept +
-    absorbed), both sums of non-negative terms, and f <= 1 exactly in floating point (a sum of
-    non-negative floats is at least each term, and rounding is monotone). Then
-
-    * reached side: R(t) = R(t - dt) + N(t - dt) q, non-negative increments from the law at the
-      previous time, so R never falls;
-    * not-reached side: N(t) = N(t - dt) f, a product of factors <= 1, so N never rises.
-
-    Reported: (R, 1 - R) while R <= 1/2 and N >= 1/2; from the first time either passes 1/2,
-    (1 - N, N) for good. The seam is handled explicitly, so both reported sides stay monotone
-    across it with no tolerance:
-
-    * N < 1/2 there: the reported 1 - N rounds to at least 1/2, so to at least every R reported
-      before (each <= 1/2), and N is below every 1 - R reported before (each >= 1/2);
-    * only R > 1/2 there (the two sides disagree by rounding): N restarts as 1 - R, exact by
-      Sterbenz's lemma since R lies in (1/2, 1], so the pair reported is exactly (R, 1 - R).
-
-    The bounds [0, 1] hold by construction too (R <= 1/2 while reported, 0 <= N <= 1); no reported
-    value is clipped. Each small side keeps its relative accuracy, about (steps + times) x 1e-16,
-    down to about 1e-290.
-    """
-    order = np.argsort(times, kind="stable")
-    reached = np.zeros(times.size)
-    not_reached = np.ones(times.size)
-    if start == chain.top:
-        reached[:], not_reached[:] = 1.0, 0.0
-        return PassageCurve(times, reached, not_reached, 0.0, 0)
-    law = _point_law(chain.birth.size, start)  # given not absorbed; law[K] stays 0
-    reached_side, not_reached_side, on_reached_side = 0.0, 1.0, True
-    dropped, steps, previous = 0.0, 0, 0.0
-    for index in order:
-        gap = float(times[index]) - previous
-        previous = float(times[index])
-        if gap > 0 and not_reached_side > 0:
-            moved, gone, taken = _uniformized(chain, law, np.array([gap]))
-            law, absorbed = moved[0], float(moved[0, -1])
-            law[-1] = 0.0
-            kept = math.fsum(law)
-            total = kept + absorbed
-            reached_side += not_reached_side * (absorbed / total)
-            not_reached_side *= kept / total
-            if kept > 0:
-                law /= kept
-            dropped += float(gone[0])
-            steps += taken
-        if on_reached_side and not_reached_side < 0.5:
-            on_reached_side = False
-        elif on_reached_side and reached_side > 0.5:  # the seam, reached first by rounding
-            not_reached_side, on_reached_side = 1.0 - reached_side, False
-        if on_reached_side:
-            reached[index], not_reached[index] = reached_side, 1.0 - reached_side
-        else:
-            reached[index], not_reached[index] = 1.0 - not_reached_side, not_reached_side
-    return PassageCurve(times, reached, not_reached, dropped, steps)
-
-
-def _point_law(size: int, level: int) -> np.ndarray:
-    law = np.zeros(size)
-    law[level] = 1.0
-    return law
-
-
-def _step(source, target, stay, up_from, down_from, scratch) -> None:
-    """target = source P for the tridiagonal P, written in place (no temporaries)."""
-    np.multiply(stay, source, out=target)
-    np.multiply(up_from, source[:-1], out=scratch[1:])
-    target[1:] += scratch[1:]
-    np.multiply(down_from, source[1:], out=scratch[:-1])
-    target[:-1] += scratch[:-1]
-
-
-# -- passage times, Skellam ratios, helpers --------------------------------------------------------
-
-
 def _upward_passage(birth: np.ndarray, death: np.ndarray, start: int, target: int) -> float:
     """E[time from start to target > start] = sum over start <= k < target of r_k / b_k.
 
@@ -399,27 +215,6 @@ def _upward_passage(birth: np.ndarray, death: np.ndarray, start: int, target: in
         if level >= start:
             passages.append(ratio / births[level])
     return math.fsum(passages)
-
-
-def peak_relative_weights(increments: np.ndarray) -> np.ndarray:
-    """w_i / w_peak from increments[i - 1] = log w_i - log w_{i-1}.
-
-    The logs are summed outwards from the peak, so every weight that does not underflow has a log
-    below about 745 in size, held to 1e-13 absolute; summed from the first level they could reach
-    1e6 (a walk a million levels from its start) and keep only 1e-10.
-    """
-    peak = int(np.argmax(np.concatenate(([0.0], np.cumsum(increments)))))
-    falling = -_compensated_cumsum(increments[:peak][::-1])[::-1]
-    return np.exp(np.concatenate((falling, [0.0], _compensated_cumsum(increments[peak:]))))
-
-
-def _compensated_cumsum(terms: np.ndarray) -> np.ndarray:
-    """Running sums with each partial sum's rounding error added back (TwoSum, Knuth TAOCP vol. 2 4.2.2)."""
-    sums = np.cumsum(terms)
-    previous = np.concatenate(([0.0], sums[:-1]))
-    virtual = sums - previous
-    errors = (previous - (sums - virtual)) + (terms - virtual)
-    return sums + np.cumsum(errors)
 
 
 def _rates(name: str, values) -> np.ndarray:

@@ -11,9 +11,10 @@ import math
 import numpy as np
 
 from walkmath import checks
-from walkmath.continuous import peak_relative_weights, time_within
+from walkmath.continuous import time_within
 from walkmath.cost import Work
 from walkmath.distribution import LevelDistribution
+from walkmath.uniformization import peak_relative_weights
 
 # Each tail of the Skellam law left out of ``continuous_level_distribution`` holds at most this mass.
 SKELLAM_TAIL = 1e-300

@@ -18,7 +18,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from walkmath import checks
-from walkmath.continuous import BirthDeath, PassageCurve, absorption_curve, time_within, times_within
+from walkmath.continuous import BirthDeath, time_within, times_within
+from walkmath.uniformization import PassageCurve, absorption_curve
 
 # Largest number of units, of spares and of crews; largest failure or repair rate (per unit time).
 POOL_CAP = 100_000

@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 from scipy import linalg, optimize, special
 
 from tests.walkmath.exact import mp_generator
-from walkmath import continuous
+from walkmath import uniformization
 from walkmath.continuous import BirthDeath
 
 
@@ -173,7 +173,7 @@ def test_two_level_chain_matches_its_closed_form():
 @pytest.mark.parametrize("mean", [0.5, 40.0, 1e4, 1e7])
 def test_poisson_weights_from_the_mode_keep_full_relative_accuracy(mean):
     # reference: mpmath log-gamma at 40 digits; scipy's pmf loses 1e-8 at mean 1e7 to cancellation
-    window = continuous._poisson_window(mean)
+    window = uniformization._poisson_window(mean)
     mpmath.mp.dps = 40
     last = window.first + window.weights.size - 1
     for count in {window.first, int(mean), int(mean + 10 * math.sqrt(mean)), last}:
