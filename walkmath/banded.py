@@ -150,14 +150,17 @@ class BandedWalk:
 
     # -- forward: outlook from the start level --------------------------------
 
-    def outlook(self, horizon: int) -> Outlook:
+    def outlook(self, horizon: int, *, keep_levels: bool = False) -> Outlook:
         """Stock-out and overflow curves, expected lost/spilled units, stock-out periods.
 
         Banded forward updates over the levels that can hold mass; O(horizon x
-        levels x steps) time, O(levels) memory (the per-period level law is only
-        built when ``level_probs`` is read).
+        levels x steps) time, O(levels) memory. The per-period level law
+        (``level_probs``, (horizon + 1) x levels floats) comes from a second
+        sweep when first read, or from this one with ``keep_levels=True``.
         """
-        outlook, _ = self._sweep(checks.horizon(horizon), keep_levels=False)
+        outlook, by_period = self._sweep(checks.horizon(horizon), keep_levels=keep_levels)
+        if keep_levels:
+            outlook.__dict__["level_probs"] = by_period  # the cached_property's slot, filled by this sweep
         return outlook
 
     def _grid(self, horizon: int, start: int) -> tuple[int, int]:

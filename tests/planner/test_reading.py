@@ -35,8 +35,9 @@ def test_refusal_comes_before_any_sweep(scenario, settings, no_sweeps):
 def test_the_cap_is_priced_with_the_engine_cost_model(scenario, settings):
     params = scenario.params
     walk = params.walk()
-    # The page's required calls, priced by walkmath's own cost model (walk.cost, level·period·jump units).
-    required = sum(walk.cost(params.horizon, method).units for method in ("outlook", "level_probs", "risk_by_start"))
+    # The page's required calls (one sweep keeping every period, the backward sweep), priced by walkmath's
+    # own cost model (walk.cost, level·period·jump units).
+    required = sum(walk.cost(params.horizon, method).units for method in ("level_probs", "risk_by_start"))
     settings.PLANNER_COMPUTE_CAP = required
     reading = scenario_reading(scenario=scenario)
     assert reading.result.capacity_answer is None and reading.result.left_out  # the optional parts did not fit

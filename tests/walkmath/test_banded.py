@@ -132,3 +132,11 @@ def test_stockout_risk_does_not_rise_with_the_start_level(law, below, above):
     ]
     assert all(later <= earlier + 1e-12 for earlier, later in itertools.pairwise(risks))
     assert math.isfinite(sum(risks))
+
+
+def test_keeping_levels_in_the_sweep_gives_the_same_table_as_the_second_sweep():
+    walk = wm.BandedWalk(LAW, start=3, low=0, high=6, below="lost", above="spill")
+    kept = walk.outlook(20, keep_levels=True)
+    assert "level_probs" in kept.__dict__  # filled by the same sweep, not on first read
+    np.testing.assert_array_equal(kept.level_probs, walk.outlook(20).level_probs)
+    np.testing.assert_array_equal(kept.stockout, walk.outlook(20).stockout)

@@ -154,8 +154,7 @@ class StockJob:
                 f"To fit, {self._advice(table)}."
             )
         parts = [
-            Part("outlook", self._work("outlook").units),
-            Part("level_probs", self._work("level_probs").units),
+            Part("outlook", self._work("level_probs").units),  # one sweep keeping every period
             Part("risk_by_start", self._work("risk_by_start").units),
         ]
         if self.params.high is not None:
@@ -202,7 +201,7 @@ class StockJob:
     def run(self, allowed: dict[str, int]) -> StockResult:
         """Every figure of the page; optional parts not in ``allowed`` (name -> budget) are left out with a note."""
         params, walk, horizon = self.params, self.walk, self.params.horizon
-        outlook = walk.outlook(horizon)
+        outlook = walk.outlook(horizon, keep_levels=True)  # the heat map reads every period
         start_risk = walk.risk_by_start(horizon)
         left_out = []
         capacity_answer = both_answer = None
