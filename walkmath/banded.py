@@ -201,10 +201,7 @@ class BandedWalk:
                 f"{LEVEL_TABLE_CAP:,}, {LEVEL_TABLE_CAP * 8 // 2**20} MB); shorten the horizon or narrow the band"
             )
         copies, stockout_copy, overflow_copy = self._copies()
-        band_hi = None if self.high is None else self.high - grid_low
-        forward = Forward(copies, size, self.low - grid_low, band_hi)
-        mass = np.zeros((len(copies), size))
-        mass[:, self.start - grid_low] = 1.0
+        forward, mass, reach = self._forward_from_start(copies, grid_low, size)
         counts_stockout = bool(forward.end_low[stockout_copy])  # which copies' ended mass the curves are
         counts_overflow = bool(forward.end_high[overflow_copy])
         ended_low = ended_high = 0.0  # running sums of non-negative terms
@@ -213,7 +210,6 @@ class BandedWalk:
         by_period = np.zeros((horizon + 1, size)) if keep_levels else None
         if keep_levels:
             by_period[0] = mass[0]
-        reach = (self.start - grid_low,) * 2
         for period in range(1, horizon + 1):
             if reach[0] > reach[1]:  # every path has ended: the curves stay where they are
                 stockout[period], overflow[period] = ended_low, ended_high
@@ -229,25 +225,30 @@ class BandedWalk:
                 alive[period] = mass[0, reach[0] : reach[1] + 1].sum()
             if keep_levels:
                 by_period[period] = mass[0]
-        curves = np.array([stockout, overflow, fell, lost, spilled, alive])  # stock-out periods from ``fell``
-        if self.below == "stop":
-            curves[2] = curves[0]
-        else:  # expected number of periods ending in a stock-out: a running sum of non-negative terms
-            curves[2, 1:] = np.cumsum(curves[2, 1:])
+        # expected number of periods ending in a stock-out: a running sum of non-negative terms
+        stockout_periods = stockout if self.below == "stop" else np.cumsum(fell)
         levels = np.arange(grid_low, grid_high + 1)
         outlook = Outlook(
             horizon=horizon,
             levels=levels,
-            stockout=np.minimum(curves[0], 1.0),  # sums of ended mass: the cap meets only a last-ulp rounding
-            overflow=np.minimum(curves[1], 1.0),
-            alive=np.minimum(curves[5], 1.0),
-            lost_units=curves[3],
-            spilled_units=curves[4],
-            stockout_periods=curves[2],
+            stockout=np.minimum(stockout, 1.0),  # sums of ended mass: the cap meets only a last-ulp rounding
+            overflow=np.minimum(overflow, 1.0),
+            alive=np.minimum(alive, 1.0),
+            lost_units=lost,
+            spilled_units=spilled,
+            stockout_periods=stockout_periods,
             final=LevelDistribution(levels, mass[0].copy()),
             _walk=self,
         )
         return outlook, by_period
+
+    def _forward_from_start(self, copies: list[Rules], grid_low: int, size: int):
+        """The forward operator on the grid, every copy's mass at the start level, and its reach."""
+        band_hi = None if self.high is None else self.high - grid_low
+        forward = Forward(copies, size, self.low - grid_low, band_hi)
+        mass = np.zeros((len(copies), size))
+        mass[:, self.start - grid_low] = 1.0
+        return forward, mass, (self.start - grid_low,) * 2
 
     def first_passage(self, horizon: int, rules: Rules) -> tuple[float, float]:
         """P(the path ends below low, above high) within ``horizon`` for one copy under ``rules``.
@@ -256,14 +257,10 @@ class BandedWalk:
         outlook's work when the outlook carries three copies).
         """
         horizon = checks.horizon(horizon)
-        grid_low, grid_high = self._grid(horizon, self.start)
-        size = grid_high - grid_low + 1
         self.cost(horizon, "first_passage").check()
-        band_hi = None if self.high is None else self.high - grid_low
-        forward = Forward([rules], size, self.low - grid_low, band_hi)
-        mass = np.zeros((1, size))
-        mass[0, self.start - grid_low] = 1.0
-        reach, ended_low, ended_high = (self.start - grid_low,) * 2, 0.0, 0.0
+        grid_low, grid_high = self._grid(horizon, self.start)
+        forward, mass, reach = self._forward_from_start([rules], grid_low, grid_high - grid_low + 1)
+        ended_low = ended_high = 0.0
         for period in range(1, horizon + 1):
             if reach[0] > reach[1]:
                 break

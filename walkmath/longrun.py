@@ -135,20 +135,28 @@ class _CyclePowers:
         self.squares = [cycle]  # cycle^(2^k), as many as the cache holds
         self.cache_limit = max(1, CACHE_BYTES // cycle.nbytes)
 
-    def _power_step(self, vector: np.ndarray, gap: int) -> np.ndarray:
-        """vector @ cycle^gap by binary powers."""
+    def _squares_for(self, count: int):
+        """cycle^(2^k) for each set bit k of ``count``, lowest first, computed (and cached) as needed.
+
+        Powers of one matrix commute, so a product over these in any order is cycle^count.
+        """
         k, square = 0, self.squares[0]
-        while gap:
+        while count:
             if k < len(self.squares):
                 square = self.squares[k]
-            if gap & 1:
-                vector = vector @ square
-            gap >>= 1
+            if count & 1:
+                yield square
+            count >>= 1
             k += 1
-            if gap and k >= len(self.squares):
+            if count and k >= len(self.squares):
                 square = _stochastic(square @ square)
                 if len(self.squares) < self.cache_limit:
                     self.squares.append(square)
+
+    def _power_step(self, vector: np.ndarray, gap: int) -> np.ndarray:
+        """vector @ cycle^gap by binary powers."""
+        for square in self._squares_for(gap):
+            vector = vector @ square
         return vector
 
     def column(self, end: np.ndarray, period: int) -> np.ndarray:
@@ -157,18 +165,8 @@ class _CyclePowers:
         column = end
         for law in reversed(self.laws[:rest]):
             column = period_matrix(law, self.size, self.rules) @ column
-        k, square = 0, self.squares[0]
-        while cycles:  # powers of one matrix commute, so the bits can be taken in any order
-            if k < len(self.squares):
-                square = self.squares[k]
-            if cycles & 1:
-                column = square @ column
-            cycles >>= 1
-            k += 1
-            if cycles and k >= len(self.squares):
-                square = _stochastic(square @ square)
-                if len(self.squares) < self.cache_limit:
-                    self.squares.append(square)
+        for square in self._squares_for(cycles):
+            column = square @ column
         return column
 
     def vectors(self, start: np.ndarray, sorted_periods: np.ndarray):

@@ -200,6 +200,20 @@ def end_values(rules: Rules, values: np.ndarray, event: str, *, band_lo: int, ca
     return below, 1.0
 
 
+def leaving_chances(law: StepLaw, size: int) -> tuple[np.ndarray, np.ndarray]:
+    """P(a step from level i leaves the band below), and above, for levels 0..size - 1.
+
+    Running sums of the law's probabilities from each end (non-negative terms), read at the
+    first step that leaves: O(size + jumps) whatever the law's width.
+    """
+    levels, width = np.arange(size), law.probs.size
+    from_below = np.concatenate(([0.0], np.cumsum(law.probs)))  # from_below[k] = sum of probs[:k]
+    from_above = np.concatenate((np.cumsum(law.probs[::-1])[::-1], [0.0]))  # from_above[k] = sum of probs[k:]
+    under = from_below[np.clip(-levels - law.lowest, 0, width)]
+    over = from_above[np.clip(size - levels - law.lowest, 0, width)]
+    return under, over
+
+
 def period_matrix(law: StepLaw, size: int, rules: Rules) -> np.ndarray:
     """Row-stochastic one-period matrix on levels low..high plus [stocked out, overflowed] absorbing states.
 
@@ -214,10 +228,7 @@ def period_matrix(law: StepLaw, size: int, rules: Rules) -> np.ndarray:
     offset = levels[None, :] - levels[:, None] - law.lowest  # index into probs of the step i -> j
     inside = (offset >= 0) & (offset < width)
     matrix[:size, :size] = np.where(inside, law.probs[np.clip(offset, 0, width - 1)], 0.0)
-    from_below = np.concatenate(([0.0], np.cumsum(law.probs)))  # from_below[k] = sum of probs[:k]
-    from_above = np.concatenate((np.cumsum(law.probs[::-1])[::-1], [0.0]))  # from_above[k] = sum of probs[k:]
-    under = from_below[np.clip(-levels - law.lowest, 0, width)]
-    over = from_above[np.clip(size - levels - law.lowest, 0, width)]
+    under, over = leaving_chances(law, size)
     low_target = 0 if rules.at_low == HOLD else size
     high_target = size - 1 if rules.at_high == HOLD else size + 1
     matrix[levels, low_target] += under
@@ -240,11 +251,7 @@ def substochastic_band(law: StepLaw, size: int, rules: Rules) -> tuple[int, int,
         weight = law.prob(step)
         if weight:
             band[upper - step, max(step, 0) : size + min(step, 0)] = weight  # columns j = i + step
-    levels, width = np.arange(size), law.probs.size
-    from_below = np.concatenate(([0.0], np.cumsum(law.probs)))  # from_below[k] = sum of probs[:k]
-    from_above = np.concatenate((np.cumsum(law.probs[::-1])[::-1], [0.0]))  # from_above[k] = sum of probs[k:]
-    under = from_below[np.clip(-levels - law.lowest, 0, width)]  # P(leave below) from each level
-    over = from_above[np.clip(size - levels - law.lowest, 0, width)]  # P(leave above)
+    under, over = leaving_chances(law, size)
     ending = np.zeros(size)
     if rules.at_low == HOLD:  # the mass held at low sits in column 0, row i: band[upper + i, 0]
         rows = np.flatnonzero(under)
