@@ -29,6 +29,28 @@ def as_list(values) -> list:
     return np.asarray(values).tolist()
 
 
+def rounded(values, digits: int = 4) -> list:
+    """Probabilities as a plain list, each rounded to ``digits`` significant digits.
+
+    For colour cells, whose hover shows three digits: about half the characters of full
+    precision in the JSON. Zero stays zero, values below 1e-290 stay as they are (10^k would
+    overflow), and every other value moves by at most half a unit in its last kept digit (as
+    ``float(f"{value:.4g}")`` would give, vectorised).
+    """
+    array = np.asarray(values, dtype=float)
+    out = array.copy()
+    shown = np.flatnonzero((array > 1e-290) & (array <= 1.0))
+    exponent = digits - 1 - np.floor(np.log10(array.flat[shown]))  # >= 0 for values up to 1
+    # An integer divided by 10^k (exact up to k = 22) is the float nearest that decimal (division is
+    # correctly rounded), so it prints short; the few tinier cells go through decimal formatting.
+    exact = exponent <= 22
+    scale = 10.0 ** exponent[exact]
+    out.flat[shown[exact]] = np.round(array.flat[shown[exact]] * scale) / scale
+    for index in shown[~exact]:
+        out.flat[index] = float(f"{array.flat[index]:.{digits}g}")
+    return out.tolist()
+
+
 def log_range(*arrays) -> list[float]:
     values = np.concatenate([np.ravel(np.asarray(a, dtype=float)) for a in arrays])
     positive = values[values > 0]

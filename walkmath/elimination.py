@@ -23,6 +23,9 @@ ends: its time is inf (an exact, structural zero, not a rounding).
 
 from __future__ import annotations
 
+import hashlib
+import threading
+from collections import OrderedDict
 from dataclasses import dataclass
 
 import numpy as np
@@ -43,6 +46,9 @@ BAND_ENTRIES_CAP = 20_000_000
 # Pivots with at most this many multiply-adds run on Python floats (faster than a dozen numpy calls).
 NARROW_PIVOT = 24
 _KNOB = "narrow the band (capacity), coarsen the units or shorten the cycle of laws"
+# Solutions kept for reuse (each holds a few arrays over the band's levels): one solve answers every
+# start level, so a what-if that only moves the start stock finds its band already solved.
+SOLUTIONS_KEPT = 16
 
 
 @dataclass(frozen=True, eq=False)
@@ -98,6 +104,10 @@ def solve_band(laws, size: int, above: str, *, split_ends: bool = False) -> Band
     ``above`` is the rule at the top ("stop" ends the path, "spill" holds it).
     With ``split_ends`` the chance of ending below and above is kept apart.
     Checks the cost (time and memory) before any work; see the module notes for the method.
+
+    The last ``SOLUTIONS_KEPT`` solutions are kept, keyed by the laws' contents (each law's
+    lowest step and a digest of its probabilities), the size and the rules, and returned again
+    (read-only arrays) for the same band.
     """
     band_work(laws, size).check()
     if not fits_in_memory(laws, size):
@@ -105,6 +115,37 @@ def solve_band(laws, size: int, above: str, *, split_ends: bool = False) -> Band
             f"mean_time needs a band of {size:,} levels, more than {BAND_ENTRIES_CAP:,} entries "
             f"held in memory. To fit, {_KNOB}."
         )
+    key = (tuple(_law_key(law) for law in laws), size, above, split_ends)
+    with _kept_lock:
+        if key in _kept:
+            _kept.move_to_end(key)
+            return _kept[key]
+    solution = _solve_band(laws, size, above, split_ends)
+    for array in (solution.times, solution.ended, solution.stuck):
+        array.setflags(write=False)
+    with _kept_lock:
+        _kept[key] = solution
+        while len(_kept) > SOLUTIONS_KEPT:
+            _kept.popitem(last=False)
+    return solution
+
+
+_kept: OrderedDict[tuple, BandSolution] = OrderedDict()
+_kept_lock = threading.Lock()
+
+
+def forget_solutions() -> None:
+    """Drop every kept solution (tests start from none)."""
+    with _kept_lock:
+        _kept.clear()
+
+
+def _law_key(law) -> tuple[int, bytes]:
+    probs = np.ascontiguousarray(law.probs, dtype=float)
+    return law.lowest, hashlib.blake2b(probs.tobytes(), digest_size=20).digest()
+
+
+def _solve_band(laws, size: int, above: str, split_ends: bool) -> BandSolution:
     rules = Rules("stop", above)
     lower, upper, product = 0, 0, np.ones((size, 1))  # Q_1 ... Q_r in row form, starting at I
     spent = np.zeros(size)

@@ -333,3 +333,30 @@ def test_held_top_closed_form_on_tall_bands(up, down, levels, start):
     exact = ((s + 1) - r ** (n - s) * (1 - r ** (s + 1)) / (1 - r)) / ((1 - r) * d)
     walk = wm.BandedWalk(wm.StepLaw.nearest(up, down), start=start, low=0, high=levels - 1)
     assert relative_error(walk.mean_periods_to_stockout(), exact) < 1e-12
+
+
+def test_a_kept_solution_answers_every_start_as_a_fresh_solve_would():
+    # One solve serves every start; the answers must equal a fresh solve's (the 80-digit reference above)
+    # and a one-probability change of the law must not be answered from the kept solution.
+    walks = [wm.BandedWalk(CYCLE, start=start, low=0, high=30, above="spill") for start in (3, 12, 29)]
+    first = [walk.mean_periods_to_stockout() for walk in walks]
+    assert len(elimination._kept) == 1
+    again = [walk.mean_periods_to_stockout() for walk in walks]
+    assert again == first
+    for walk, value in zip(walks, first, strict=True):
+        exact = reference(CYCLE, 0, 30, walk.start, overflow_ends=False, above="spill", digits=30)
+        assert relative_error(value, exact) < 1e-10
+    nudged = wm.StepLaw.from_pmf({-3: 0.2, -1: 0.3, 0: 0.1, 2: 0.26, 5: 0.14})
+    other = wm.BandedWalk([nudged, *CYCLE[1:]], start=12, low=0, high=30, above="spill")
+    exact = reference([nudged, *CYCLE[1:]], 0, 30, 12, overflow_ends=False, above="spill", digits=30)
+    assert relative_error(other.mean_periods_to_stockout(), exact) < 1e-10
+    assert len(elimination._kept) == 2
+
+
+def test_kept_solutions_are_read_only_and_bounded():
+    for high in range(10, 10 + elimination.SOLUTIONS_KEPT + 3):
+        wm.BandedWalk(SKEW, start=5, low=0, high=high).mean_periods_to_exit()
+    assert len(elimination._kept) == elimination.SOLUTIONS_KEPT
+    solution = next(iter(elimination._kept.values()))
+    with pytest.raises(ValueError, match="read-only"):
+        solution.times[0] = 0.0

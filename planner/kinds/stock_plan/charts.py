@@ -21,6 +21,7 @@ from planner.chart_layout import (
     layout,
     line,
     log_range,
+    rounded,
     target_line,
 )
 from planner.formatting import period_name, probability, units
@@ -59,7 +60,7 @@ def outlook_chart(result: StockResult) -> dict:
         "type": "heatmap",
         "x": as_list(result.periods[::stride]),
         "y": as_list(levels[rows]),
-        "z": as_list(shown.T),
+        "z": rounded(shown.T),  # colour cells: 4 significant digits (the CSV has every digit)
         "colorscale": LEVEL_SCALE,
         "zmin": 0,
         "zmax": top,

@@ -77,7 +77,9 @@ def test_heat_map_keeps_every_level_that_matters(result):
     }
     assert needed <= shown
     rows = values(heat["y"]) - result.outlook.levels[0]
-    np.testing.assert_array_equal(values(heat["z"]), probs[:, rows].T)
+    # colour cells keep 4 significant digits (reference: Python's "%.4g" formatting)
+    expected = [[float(f"{p:.4g}") for p in row] for row in probs[:, rows].T]
+    np.testing.assert_array_equal(values(heat["z"]), expected)
     np.testing.assert_array_equal(values(heat["x"]), result.periods)
 
 
