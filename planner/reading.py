@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from django.conf import settings
+from django.http import Http404
 
 from planner.kinds import Kind, get_kind
 from walkmath import ComputeTooLarge
@@ -91,10 +92,24 @@ def scenario_reading(*, scenario, changes: Mapping | None = None) -> Reading:
     Raises ValueError (ComputeTooLarge included) whose message names the input
     to change; nothing is computed before the cost check passes.
     """
+    return _read(scenario, changes, lambda kind: kind.prepare)
+
+
+def scenario_cross_check(*, scenario, changes: Mapping | None = None) -> Reading:
+    """The kind's cross-check (exact figures beside approximations), priced and refused as above.
+
+    Http404 when the kind has no cross-check.
+    """
+    return _read(scenario, changes, lambda kind: kind.cross_check)
+
+
+def _read(scenario, changes: Mapping | None, job_maker) -> Reading:
     kind = get_kind(scenario.kind)
     saved = kind.params_from_json(scenario.parameters)
     params = kind.apply_changes(saved, changes) if changes else saved
-    job = kind.prepare(params, scenario.stockout_target, scenario.overflow_target)
+    job = job_maker(kind)(params, scenario.stockout_target, scenario.overflow_target)
+    if job is None:
+        raise Http404("This kind has no cross-check")
     result = job.run(_allowed(job))
     described = tuple(kind.describe_changes(saved, params)) if params != saved else ()
     return Reading(kind=kind, params=params, result=result, changes=described)

@@ -12,6 +12,7 @@ urlpatterns = [
     path("scenarios/<int:pk>/edit/", views.scenario_edit, name="scenario_edit"),
     path("scenarios/<int:pk>/delete/", views.scenario_delete, name="scenario_delete"),
     path("scenarios/<int:pk>/outlook.json", views.scenario_outlook_json, name="scenario_outlook_json"),
+    path("scenarios/<int:pk>/cross-check.json", views.scenario_cross_check_json, name="scenario_cross_check_json"),
     path("scenarios/<int:pk>/save-variant/", views.scenario_variant_save, name="scenario_variant_save"),
     path("scenarios/<int:pk>/csv/<slug:table>.csv", views.scenario_csv, name="scenario_csv"),
     path("kinds/<slug:kind>/preview.json", views.kind_preview, name="kind_preview"),

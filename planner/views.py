@@ -11,6 +11,8 @@ What-if contract (GET ``scenario_outlook_json``; the CSV links take the same que
            "changes": [the inputs that differ from the saved plan, in words]}
           with a Server-Timing header "compute;dur=<ms>".
   400     {"error": message, "fields": {field: [messages]}} (fields may be empty: a cost refusal).
+Cross-check (GET ``scenario_cross_check_json``, the same query): 200 {"figure", "summary",
+  "table_html", "changes"}; 400 as above; 404 for a kind without a cross-check.
 Preview (GET ``kind_preview``): 200 {"ready": true, "steps", "probs", "mean", "variance", "cycle",
   "cycle_mean", "period", "summary"}; 200 {"ready": false, "message"} while required inputs are
   missing (an untouched form shows no error); 400 {"errors": {field: [messages]}}.
@@ -174,16 +176,45 @@ def scenario_variant_save(request, pk: int):
 
 @login_required
 @require_GET
+def scenario_cross_check_json(request, pk: int):
+    """The cross-check panel for the what-if values in the query (the saved plan when none differ)."""
+    scenario = get_scenario_for(request.user, pk)
+    began = time.perf_counter()
+    try:
+        found = reading.scenario_cross_check(scenario=scenario, changes=_changes(scenario, request.GET))
+    except ValueError as exc:
+        return JsonResponse({"error": str(exc), "fields": getattr(exc, "fields", {})}, status=400)
+    chart = found.kind.check_figure(found.result)
+    context = {"scenario": scenario, "reading": found, "check": found.result}
+    data = {
+        "figure": chart["figure"],
+        "summary": chart["summary"],
+        "table_html": render_to_string(found.kind.check_template, context, request),
+        "changes": list(found.changes),
+    }
+    response = JsonResponse(data)
+    response["Server-Timing"] = f"compute;dur={1000 * (time.perf_counter() - began):.1f}"
+    return response
+
+
+@login_required
+@require_GET
 def scenario_csv(request, pk: int, table: str):
     scenario = get_scenario_for(request.user, pk)
     kind = get_kind(scenario.kind)
-    if table not in kind.tables:
+    if table not in kind.tables and table not in kind.check_tables:
         raise Http404("No such table")
     try:
-        found = reading.scenario_reading(scenario=scenario, changes=_changes(scenario, request.GET))
+        changes = _changes(scenario, request.GET)
+        if table in kind.check_tables:
+            found = reading.scenario_cross_check(scenario=scenario, changes=changes)
+            rows = kind.check_rows(found.result, table)
+        else:
+            found = reading.scenario_reading(scenario=scenario, changes=changes)
+            rows = kind.table_rows(found.result, table)
     except ValueError as exc:
         return HttpResponse(str(exc), status=400, content_type="text/plain; charset=utf-8")
-    body = table_csv(kind.table_rows(found.result, table), title=scenario.title, changes=found.changes)
+    body = table_csv(rows, title=scenario.title, changes=found.changes)
     response = HttpResponse(body, content_type="text/csv; charset=utf-8")
     response["Content-Disposition"] = (
         f'attachment; filename="{file_name(scenario.title, table, whatif=found.is_whatif)}"'

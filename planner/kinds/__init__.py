@@ -48,6 +48,8 @@ class Kind:
     headline_template: str = ""  # the figures above the charts (also sent with each what-if)
     whatif_template: str = ""  # the what-if inputs
     tables: Mapping[str, str] = {}  # CSV slug -> what the table holds
+    check_template: str = ""  # the cross-check panel's table ("" when the kind has no cross-check)
+    check_tables: Mapping[str, str] = {}  # CSV slug -> what the cross-check's table holds
 
     def params_from_json(self, data: dict) -> Any:
         """Saved JSON (old shapes included) -> parameters; ValueError naming what is wrong."""
@@ -80,6 +82,19 @@ class Kind:
         required parts exceed the cap, ``run(allowed)`` -> the result (parts not in
         ``allowed`` left out with a note) and ``headline()`` -> (stock-out risk, span) stored at save.
         """
+        raise NotImplementedError
+
+    def cross_check(self, params, stockout_target: float, overflow_target: float):
+        """A job for the cross-check panel (exact figures beside approximations), with the same
+        ``parts()``, ``refusal()`` and ``run(allowed)`` as ``prepare``'s; None when the kind has none."""
+        return None
+
+    def check_figure(self, check) -> dict:
+        """The cross-check's chart, in the shape of one of ``figures``'s values."""
+        raise NotImplementedError
+
+    def check_rows(self, check, table: str) -> Iterator[list]:
+        """Header row then data rows of one of ``check_tables``."""
         raise NotImplementedError
 
     def figures(self, result) -> dict[str, dict]:

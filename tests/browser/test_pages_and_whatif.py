@@ -232,6 +232,29 @@ def test_save_as_new_sends_the_name_given(page, live_server, scenario):
     assert "title=Rye+shelf%2C+Saturday+stock" in sent.value.post_data
 
 
+@pytest.mark.parametrize("width", WIDTHS)
+def test_cross_check_panel_fills_in_and_offers_to_check_a_what_if(page, live_server, scenario, width):
+    page.set_viewport_size({"width": width, "height": 900})
+    sign_in(page, live_server)
+    page.goto(f"{live_server.url}/scenarios/{scenario.pk}/")
+    wait_for_charts(page)
+    page.wait_for_selector("#cross-check[data-state=done] #fig-cross-check .main-svg", timeout=60_000)
+    assert page.locator("#cross-check-table tbody tr").count() == 8  # 12 days: eight checkpoints
+    assert page.inner_text("#fig-cross-check-summary").strip()
+    assert not page.is_visible("#cross-check-run")
+    scroll_width, inner_width = overflow(page)
+    assert scroll_width <= inner_width
+
+    page.fill("#whatif-form input[name=start]", "2")
+    page.wait_for_selector("#whatif-form[data-state=done]")
+    page.wait_for_selector("#cross-check-run", state="visible")
+    with page.expect_response(lambda response: "cross-check.json?" in response.url and "start=2" in response.url):
+        page.click("#cross-check-run")
+    page.wait_for_selector("#cross-check[data-state=done]")
+    assert "start=2" in page.get_attribute("#cross-check-csv", "href")
+    assert page.locator("#cross-check-body .whatif-changes").count() == 1
+
+
 def test_missing_scenario_gets_our_404_page_with_a_way_back(page, live_server, owner):
     sign_in(page, live_server)
     response = page.goto(f"{live_server.url}/scenarios/987654/")

@@ -9,7 +9,7 @@ from django.urls import reverse
 
 import walkmath as wm
 from planner.formatting import probability
-from planner.kinds import all_kinds
+from planner.kinds import all_kinds, get_kind
 from planner.models import Scenario
 from tests.conftest import PASSWORD
 
@@ -23,8 +23,9 @@ SCENARIO_VIEWS = [
     ("scenario_delete", {}, "get"),
     ("scenario_delete", {}, "post"),
     ("scenario_outlook_json", {}, "get"),
+    ("scenario_cross_check_json", {}, "get"),
     ("scenario_variant_save", {}, "post"),
-] + [("scenario_csv", {"table": table}, "get") for kind in all_kinds() for table in kind.tables]
+] + [("scenario_csv", {"table": table}, "get") for kind in all_kinds() for table in [*kind.tables, *kind.check_tables]]
 KIND_VIEWS = [(name, kind.key) for kind in all_kinds() for name in ("scenario_new_kind", "kind_preview")]
 
 
@@ -62,7 +63,11 @@ def test_owner_is_answered(client, any_scenario, name, extra, method):
     client.force_login(any_scenario.owner)
     data = {"title": "Rye loaf shelf, copy"} if name == "scenario_variant_save" else {}
     response = getattr(client, method)(url_for(name, any_scenario, extra), data)
-    assert response.status_code in (200, 302)
+    kind = get_kind(any_scenario.kind)
+    if name == "scenario_cross_check_json" and not kind.check_template:
+        assert response.status_code == 404  # this kind has no cross-check
+    else:
+        assert response.status_code in (200, 302)
 
 
 @pytest.mark.parametrize(("name", "kind"), KIND_VIEWS)
@@ -120,7 +125,8 @@ def test_owner_sees_results_with_figures_text_alternatives_and_cautions(client, 
     assert response.status_code == 200
     assert 'id="figures"' in page and "planner/js/plotly.min.js" in page
     assert "Decision support only" in page and "licensed professionals" in page
-    for chart in ("outlook", "risk", "start", "horizon", "normal"):
+    assert 'id="cross-check"' in page and 'id="fig-cross-check"' in page  # filled by its own request
+    for chart in ("outlook", "risk", "start", "horizon"):
         assert f'id="fig-{chart}"' in page and f'id="fig-{chart}-summary"' in page
     assert "can serve that day" in page  # the order of events within a period
     assert 'id="whatif-title"' in page
@@ -208,7 +214,7 @@ def test_outlook_json_follows_the_whatif_values(client, scenario):
     assert changed.status_code == 200 and "compute;dur=" in changed["Server-Timing"]
     body = changed.json()
     assert body["params"]["start"] == 2 and body["params"]["horizon"] == 20
-    assert set(body["figures"]) == set(body["summaries"]) == {"outlook", "risk", "start", "horizon", "normal"}
+    assert set(body["figures"]) == set(body["summaries"]) == {"outlook", "risk", "start", "horizon"}
     assert set(body["figures"]["risk"]) == {"data", "layout"}
     assert body["figures"]["risk"]["data"][0]["y"] != base["figures"]["risk"]["data"][0]["y"]
     assert "over 20 days" in body["headline_html"]

@@ -12,7 +12,7 @@ import numpy as np
 
 from planner.formatting import rate
 from planner.kinds import Kind, Part, register
-from planner.kinds.stock_plan import charts, tables
+from planner.kinds.stock_plan import charts, crosscheck, tables
 from planner.kinds.stock_plan.compute import StockJob
 from planner.kinds.stock_plan.forms import ChangeLawForm, StockPlanForm, WhatIfForm, form_initial
 from planner.kinds.stock_plan.params import StockPlanParams
@@ -29,6 +29,8 @@ class StockPlan(Kind):
     headline_template = "planner/kinds/stock_plan/headline.html"
     whatif_template = "planner/kinds/stock_plan/whatif.html"
     tables = tables.TABLES
+    check_template = "planner/kinds/stock_plan/cross_check.html"
+    check_tables = {"cross-check": "cross-check: exact, normal approximation and simulation"}
 
     def params_from_json(self, data):
         return StockPlanParams.from_json(data)
@@ -50,6 +52,15 @@ class StockPlan(Kind):
 
     def prepare(self, params, stockout_target, overflow_target):
         return StockJob(params, stockout_target, overflow_target)
+
+    def cross_check(self, params, stockout_target, overflow_target):
+        return crosscheck.CrossCheckJob(params, stockout_target)
+
+    def check_figure(self, check):
+        return crosscheck.chart(check)
+
+    def check_rows(self, check, table):
+        return crosscheck.csv_rows(check)
 
     def figures(self, result):
         return charts.charts_for(result)

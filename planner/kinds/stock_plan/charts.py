@@ -185,38 +185,11 @@ def horizon_chart(result: StockResult) -> dict:
     return _chart(fig, summary, "stock-by-period")
 
 
-def normal_chart(result: StockResult) -> dict:
-    """Stock-out risk, exact against the Brownian (normal) approximation."""
-    x = result.periods
-    name = period_name(result.period)
-    fig = {
-        "data": [
-            line(x, result.outlook.stockout, "exact", STOCKOUT, hover=probability),
-            line(x, result.normal_stockout, "normal approximation", NORMAL, width=2, dash="dash", hover=probability),
-            target_line(x, result.stockout_target, "stock-out target"),
-        ],
-        "layout": layout(
-            "Stock-out risk: exact and normal approximation",
-            name,
-            "probability",
-            log_switch=True,
-            y_type="log",
-            y_range=log_range(result.outlook.stockout, result.normal_stockout),
-        ),
-    }
-    summary = (
-        f"Over {result.span} the exact stock-out risk is {probability(result.stockout_risk)}; "
-        f"the normal approximation gives {probability(float(result.normal_stockout[-1]))}."
-    )
-    return _chart(fig, summary, "risk-curves")
-
-
 CHARTS = {
     "outlook": outlook_chart,
     "risk": risk_chart,
     "start": start_chart,
     "horizon": horizon_chart,
-    "normal": normal_chart,
 }
 
 

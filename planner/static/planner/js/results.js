@@ -147,6 +147,7 @@
         headline.innerHTML = reply.body.headline_html;
         updateLinks(qs);
         lastQuery = qs;
+        offerCheck(qs);
         var ms = /dur=([0-9.]+)/.exec(reply.timing || "");
         show("done", "Updated" + (ms ? " in " + Math.round(parseFloat(ms[1])) + " ms" : "") + ".");
       })
@@ -155,6 +156,68 @@
         running = null;
         show("error", "Could not reach the planner; check the connection.");
       });
+  }
+
+  // Cross-check panel (#cross-check): its own request after the page draws, since the simulation takes a
+  // moment. After a what-if it offers to check the new values instead of rerunning on every keystroke.
+  // data-state on the panel is busy, done or error; data-query holds the values it shows.
+  var check = document.getElementById("cross-check");
+  var checkStatus = document.getElementById("cross-check-status");
+  var checkButton = document.getElementById("cross-check-run");
+  var checkRunning = null;
+
+  function runCheck(qs) {
+    if (!check) { return; }
+    if (checkRunning) { checkRunning.abort(); }
+    var controller = new AbortController();
+    checkRunning = controller;
+    check.dataset.state = "busy";
+    checkStatus.textContent = "Working out the cross-check…";
+    checkButton.hidden = true;
+    fetch(check.dataset.url + (qs ? "?" + qs : ""), {
+      headers: { Accept: "application/json" }, credentials: "same-origin", signal: controller.signal
+    })
+      .then(function (response) {
+        var json = (response.headers.get("Content-Type") || "").indexOf("json") >= 0;
+        return (json ? response.json() : Promise.resolve({})).then(function (body) {
+          return { ok: response.ok, code: response.status, body: body };
+        });
+      })
+      .then(function (reply) {
+        if (checkRunning !== controller) { return; }
+        checkRunning = null;
+        if (!reply.ok) {
+          check.dataset.state = "error";
+          checkStatus.textContent = reply.body.error || "The cross-check failed (error " + reply.code + ").";
+          return;
+        }
+        PlannerCharts.draw(document.getElementById("fig-cross-check"), reply.body.figure, figureName("cross-check"));
+        document.getElementById("fig-cross-check-summary").textContent = reply.body.summary;
+        document.getElementById("cross-check-body").innerHTML = reply.body.table_html;
+        var link = document.getElementById("cross-check-csv");
+        if (link) { link.href = link.href.split("?")[0] + (qs ? "?" + qs : ""); }
+        check.dataset.query = qs;
+        check.dataset.state = "done";
+        checkStatus.textContent = qs ? "Cross-check of the what-if values." : "Cross-check of the saved plan.";
+      })
+      .catch(function (error) {
+        if (checkRunning !== controller || (error && error.name === "AbortError")) { return; }
+        checkRunning = null;
+        check.dataset.state = "error";
+        checkStatus.textContent = "Could not reach the planner for the cross-check; check the connection.";
+      });
+  }
+
+  function offerCheck(qs) {
+    if (!check || check.dataset.query === qs || check.dataset.state === "busy") { return; }
+    checkButton.hidden = false;
+    checkStatus.textContent = check.dataset.query
+      ? "The cross-check below is for earlier what-if values."
+      : "The cross-check below is for the saved plan.";
+  }
+
+  if (check) {
+    checkButton.addEventListener("click", function () { runCheck(lastQuery || ""); });
   }
 
   function schedule() {
@@ -200,4 +263,5 @@
   });
   syncCapacity();
   draw(figures);
+  runCheck("");
 })();

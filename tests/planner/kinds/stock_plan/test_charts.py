@@ -43,7 +43,7 @@ def test_floor_and_capacity_lines_are_drawn(result):
 
 def test_every_figure_is_present_and_plain_json(result):
     figures = figures_for(result)
-    assert set(figures) == {"outlook", "risk", "start", "horizon", "normal"}
+    assert set(figures) == {"outlook", "risk", "start", "horizon"}
     # Plain dicts and lists: the standard JSON encoder writes them, no plotly encoder needed.
     data = json.loads(json.dumps(figures, allow_nan=False))
     assert all(fig["data"] and set(fig) == {"data", "layout"} for fig in data.values())
@@ -97,4 +97,3 @@ def test_start_and_horizon_figures(result):
     )
     np.testing.assert_array_equal(values(normal["x"]), result.normal_final.levels[inside])
     np.testing.assert_array_equal(values(normal["y"]), result.normal_final.probs[inside])
-    np.testing.assert_array_equal(values(figures["normal"]["data"][1]["y"]), result.normal_stockout)
