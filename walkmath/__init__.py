@@ -17,6 +17,7 @@ from walkmath.compare import (
 from walkmath.continuous import BirthDeath, TransientLaw
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
 from walkmath.distribution import LevelDistribution, law_power, level_distribution
+from walkmath.fitting import ChangeFit, CountFit, Estimate, empirical_change_law, fit_count_law
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
@@ -43,7 +44,10 @@ __all__ = [
     "BirthDeath",
     "COMPUTE_CAP",
     "CapacityRisk",
+    "ChangeFit",
     "ComputeTooLarge",
+    "CountFit",
+    "Estimate",
     "LevelDistribution",
     "LevelSearch",
     "LongOutlook",
@@ -65,10 +69,12 @@ __all__ = [
     "brownian_first_passage",
     "checks",
     "continuous_level_distribution",
+    "empirical_change_law",
     "expected_duration",
     "expected_shortage",
     "fill_rate",
     "first_stockout_times",
+    "fit_count_law",
     "law_power",
     "lead_time_demand",
     "level_distribution",
