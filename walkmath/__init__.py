@@ -18,6 +18,7 @@ from walkmath.continuous import BirthDeath, TransientLaw
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
 from walkmath.distribution import LevelDistribution, law_power, level_distribution
 from walkmath.fitting import ChangeFit, CountFit, Estimate, empirical_change_law, fit_count_law
+from walkmath.goodness import FrequencyRow, GoodnessOfFit, PooledCell, Recommendation, goodness_of_fit, recommend_law
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
@@ -48,6 +49,8 @@ __all__ = [
     "ComputeTooLarge",
     "CountFit",
     "Estimate",
+    "FrequencyRow",
+    "GoodnessOfFit",
     "LevelDistribution",
     "LevelSearch",
     "LongOutlook",
@@ -57,6 +60,8 @@ __all__ = [
     "PeriodicReview",
     "PolicyChoice",
     "PolicyMeasures",
+    "PooledCell",
+    "Recommendation",
     "ReorderPointPlan",
     "SparesPool",
     "StartRisk",
@@ -75,6 +80,7 @@ __all__ = [
     "fill_rate",
     "first_stockout_times",
     "fit_count_law",
+    "goodness_of_fit",
     "law_power",
     "lead_time_demand",
     "level_distribution",
@@ -83,6 +89,7 @@ __all__ = [
     "normal_loss",
     "normal_stockout_curve",
     "protection_demand",
+    "recommend_law",
     "reorder_point",
     "reorder_point_plan",
     "ruin_probability",
