@@ -24,6 +24,7 @@ from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
+from walkmath.profile import WeekdayProfile, weekday_profile
 from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.service import (
@@ -69,6 +70,7 @@ __all__ = [
     "StockoutRisk",
     "TransientLaw",
     "WORK_CAP",
+    "WeekdayProfile",
     "Work",
     "best_policy",
     "brownian_first_passage",
@@ -97,5 +99,6 @@ __all__ = [
     "smallest_order_up_to",
     "smallest_reorder_level",
     "unfilled_share",
+    "weekday_profile",
     "wilson_interval",
 ]
