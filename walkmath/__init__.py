@@ -24,6 +24,7 @@ from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
+from walkmath.posterior import ChangePosterior, RatePosterior, SpreadPosterior, law_posterior
 from walkmath.profile import WeekdayProfile, weekday_profile
 from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
@@ -47,6 +48,7 @@ __all__ = [
     "COMPUTE_CAP",
     "CapacityRisk",
     "ChangeFit",
+    "ChangePosterior",
     "ComputeTooLarge",
     "CountFit",
     "Estimate",
@@ -62,9 +64,11 @@ __all__ = [
     "PolicyChoice",
     "PolicyMeasures",
     "PooledCell",
+    "RatePosterior",
     "Recommendation",
     "ReorderPointPlan",
     "SparesPool",
+    "SpreadPosterior",
     "StartRisk",
     "StepLaw",
     "StockoutRisk",
@@ -83,6 +87,7 @@ __all__ = [
     "first_stockout_times",
     "fit_count_law",
     "goodness_of_fit",
+    "law_posterior",
     "law_power",
     "lead_time_demand",
     "level_distribution",
