@@ -41,6 +41,7 @@ from walkmath.sizing import CapacityRisk
 from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
+from walkmath.uncertainty import RiskBand, risk_band, risk_band_work
 
 __all__ = [
     "BandedWalk",
@@ -67,6 +68,7 @@ __all__ = [
     "RatePosterior",
     "Recommendation",
     "ReorderPointPlan",
+    "RiskBand",
     "SparesPool",
     "SpreadPosterior",
     "StartRisk",
@@ -99,6 +101,8 @@ __all__ = [
     "recommend_law",
     "reorder_point",
     "reorder_point_plan",
+    "risk_band",
+    "risk_band_work",
     "ruin_probability",
     "safety_stock",
     "smallest_order_up_to",
