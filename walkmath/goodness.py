@@ -119,6 +119,15 @@ def _pool(observed: np.ndarray, fitted: np.ndarray, min_expected: float) -> tupl
 
 CHOICES = ("empirical", "poisson", "negative_binomial")
 PERIOD_WORDS = ("day", "week", "shift", "month", "period", "hour")
+# What the history counts, as the subject of the reason's first sentence.
+SUBJECTS = {
+    "demand": "Demand varies",
+    "deliveries": "Deliveries vary",
+    "change": "The change varies",
+    "failures": "Failures vary",
+    "returns": "Returns vary",
+    "use": "Use varies",
+}
 
 
 @dataclass(frozen=True, eq=False)
@@ -156,7 +165,8 @@ def recommend_law(history, *, what: str = "demand", period: str = "day", level: 
     JASA 82:605-610), else the Poisson law; then the observed changes instead
     when that law's chi-square rejects it at ``level``.
     """
-    what = checks.choice("what", what, ("demand", "deliveries", "change", "failures", "returns", "use"))
+    what = checks.choice("what", what, tuple(SUBJECTS))
+    subject = SUBJECTS[what]
     period = checks.choice("period", period, PERIOD_WORDS)
     level = checks.open_probability("level", level)
     values = np.asarray(history)
@@ -178,13 +188,13 @@ def recommend_law(history, *, what: str = "demand", period: str = "day", level: 
     if spread_p < level:
         choice = "negative_binomial"
         reason = (
-            f"{what.capitalize()} varies more from {period} to {period} than a Poisson law allows ({figures}): "
+            f"{subject} more from {period} to {period} than a Poisson law allows ({figures}): "
             f"busy {period}s come in clumps. The negative binomial covers that extra spread"
         )
     else:
         choice = "poisson"
         reason = (
-            f"{what.capitalize()} varies from {period} to {period} about as a Poisson law with the same mean "
+            f"{subject} from {period} to {period} about as a Poisson law with the same mean "
             f"does ({figures}), so the plainest law, fitted by its mean alone, is enough"
         )
     check = goodness[choice]
