@@ -166,48 +166,59 @@ def recommend_law(history, *, what: str = "demand", period: str = "day", level: 
     when that law's chi-square rejects it at ``level``.
     """
     what = checks.choice("what", what, tuple(SUBJECTS))
-    subject = SUBJECTS[what]
     period = checks.choice("period", period, PERIOD_WORDS)
     level = checks.open_probability("level", level)
     values = np.asarray(history)
     empirical = empirical_change_law(values, name="history")
+    span = _periods(values.size, period)
     if values.min() < 0:
         reason = (
             f"The level moved both ways (from {int(values.min()):+d} to {int(values.max()):+d} a {period}); "
             f"Poisson and negative-binomial laws describe counts in one direction, so plan with the changes "
-            f"as they were observed over {values.size} {period}s."
+            f"as they were observed over {span}."
         )
         return Recommendation("empirical", reason, empirical)
     poisson = fit_count_law(values, "poisson")
-    spread = fit_count_law(values, "negative_binomial")
+    figures = f"variance {float(np.var(values)):.3g} against a mean of {poisson.mean:.3g} units a {period}"
+    try:
+        spread = fit_count_law(values, "negative_binomial")
+    except ValueError:  # too wide a negative binomial for the engine's laws
+        reason = (
+            f"{SUBJECTS[what]} far more from {period} to {period} than a Poisson law allows ({figures}), more "
+            f"than a negative binomial in these units can hold, so plan with the amounts as they were "
+            f"observed over {span}."
+        )
+        return Recommendation("empirical", reason, empirical, poisson, goodness={"poisson": goodness_of_fit(poisson)})
     goodness = {"poisson": goodness_of_fit(poisson), "negative_binomial": goodness_of_fit(spread)}
     ratio = max(2.0 * (spread.loglik - poisson.loglik), 0.0)
     spread_p = 0.5 * float(stats.chi2.sf(ratio, 1)) if ratio > 0 else 1.0
-    observed_variance = float(np.var(values))
-    figures = f"variance {observed_variance:.3g} against a mean of {poisson.mean:.3g} units a {period}"
     if spread_p < level:
         choice = "negative_binomial"
         reason = (
-            f"{subject} more from {period} to {period} than a Poisson law allows ({figures}): "
+            f"{SUBJECTS[what]} more from {period} to {period} than a Poisson law allows ({figures}): "
             f"busy {period}s come in clumps. The negative binomial covers that extra spread"
         )
     else:
         choice = "poisson"
         reason = (
-            f"{subject} from {period} to {period} about as a Poisson law with the same mean "
+            f"{SUBJECTS[what]} from {period} to {period} about as a Poisson law with the same mean "
             f"does ({figures}), so the plainest law, fitted by its mean alone, is enough"
         )
     check = goodness[choice]
     if check.p_value is None:
-        reason += f"; {values.size} {period}s are too few to test how often each amount occurs."
+        reason += f"; {span} {'is' if values.size == 1 else 'are'} too few to test how often each amount occurs."
     elif check.p_value < level:
         label = "the negative binomial" if choice == "negative_binomial" else "a Poisson law"
         reason += (
             f"; but even {label} does not match how often each amount occurred (chi-square p = "
             f"{check.p_value:.2g} on {len(check.cells)} pooled cells), so plan with the amounts as they were "
-            f"observed over {values.size} {period}s."
+            f"observed over {span}."
         )
         choice = "empirical"
     else:
         reason += f" (chi-square p = {check.p_value:.2g} on {len(check.cells)} pooled cells)."
     return Recommendation(choice, reason, empirical, poisson, spread, goodness, spread_p)
+
+
+def _periods(count: int, period: str) -> str:
+    return f"{count:,} {period}" + ("" if count == 1 else "s")

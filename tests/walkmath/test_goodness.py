@@ -148,6 +148,15 @@ def test_short_history_says_it_cannot_test_the_shape():
     assert "4 weeks are too few to test" in advice.reason
 
 
+def test_one_period_and_a_spread_too_wide_for_a_negative_binomial():
+    assert "; 1 day is too few to test how often each amount occurs." in wm.recommend_law([4]).reason
+    # two days, 0 and a million units: the fitted negative binomial's variance (about 4.4e12) is past
+    # the 1e12 the engine's laws accept, so the observed amounts are the advice, not an error
+    advice = wm.recommend_law([0, 1_000_000])
+    assert advice.choice == "empirical" and advice.negative_binomial is None and advice.poisson is not None
+    assert "more than a negative binomial in these units can hold" in advice.reason
+
+
 def test_recommendation_words_avoid_method_names():
     rng = np.random.default_rng(65)
     for history in (rng.poisson(20.0, DAYS), rng.negative_binomial(2.0, 0.1, DAYS), rng.poisson(5, 60) - 5):
