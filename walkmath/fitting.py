@@ -8,7 +8,8 @@
 Every sum over the history runs on its table of frequencies: ``beyond[j]``, the
 number of periods whose count exceeds j, turns the log-likelihood of the
 negative binomial into sums of non-negative terms over j (no differences of
-log-gamma values of large arguments).
+log-gamma values of large arguments). Journal references here are cited from
+memory (authors, year, volume and pages not checked against the papers).
 """
 
 from __future__ import annotations

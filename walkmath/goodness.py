@@ -4,6 +4,8 @@
   observed against fitted frequencies for each count;
 * ``recommend_law``: the observed changes, a Poisson law or a negative binomial,
   with the reason in the planner's words.
+
+Journal references here are cited from memory.
 """
 
 from __future__ import annotations

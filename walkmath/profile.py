@@ -6,6 +6,7 @@ the likelihood ratio against one law for every day (Wilks 1938, Ann. Math.
 Statist. 9:60-62: twice the log-ratio is chi-square with 6 degrees of freedom
 when the days do not differ). ``WeekdayProfile.cycle`` lines the seven laws up
 with a plan's first day for ``BandedWalk``'s list of laws used cyclically.
+The reference is cited from memory.
 """
 
 from __future__ import annotations
