@@ -33,11 +33,11 @@ class RiskBand:
 
     Arrays have length horizon + 1 (index 0 is 0, as in ``Outlook``). ``*_low`` and
     ``*_high`` are the draws' order statistics at (1 - credible) / 2 and
-    (1 + credible) / 2 (numpy's "inverted_cdf" quantile, Hyndman and Fan 1996's definition 1, cited
-    from memory: the same draw rank in
-    every period, so each edge never falls as the horizon grows); ``*_mean`` is
-    the average over draws, the risk with the law's uncertainty folded in.
-    ``stockout_by_draw[d]`` is draw d's curve.
+    (1 + credible) / 2 (numpy's "inverted_cdf" quantile, definition 1 of Hyndman
+    and Fan 1996, cited from memory): the same draw rank in every period, so each
+    edge never falls as the horizon grows. ``*_mean`` is the average over draws,
+    the risk with the law's uncertainty folded in. ``stockout_by_draw[d]`` is
+    draw d's curve.
     """
 
     horizon: int
