@@ -17,11 +17,15 @@ from walkmath.compare import (
 from walkmath.continuous import BirthDeath, TransientLaw
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
 from walkmath.distribution import LevelDistribution, law_power, level_distribution
+from walkmath.fitting import ChangeFit, CountFit, Estimate, empirical_change_law, fit_count_law
+from walkmath.goodness import FrequencyRow, GoodnessOfFit, PooledCell, Recommendation, goodness_of_fit, recommend_law
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
+from walkmath.posterior import ChangePosterior, RatePosterior, SpreadPosterior, law_posterior
+from walkmath.profile import WeekdayProfile, weekday_profile
 from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.service import (
@@ -37,13 +41,20 @@ from walkmath.sizing import CapacityRisk
 from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
 from walkmath.steplaw import StepLaw
+from walkmath.uncertainty import RiskBand, risk_band, risk_band_work
 
 __all__ = [
     "BandedWalk",
     "BirthDeath",
     "COMPUTE_CAP",
     "CapacityRisk",
+    "ChangeFit",
+    "ChangePosterior",
     "ComputeTooLarge",
+    "CountFit",
+    "Estimate",
+    "FrequencyRow",
+    "GoodnessOfFit",
     "LevelDistribution",
     "LevelSearch",
     "LongOutlook",
@@ -53,22 +64,32 @@ __all__ = [
     "PeriodicReview",
     "PolicyChoice",
     "PolicyMeasures",
+    "PooledCell",
+    "RatePosterior",
+    "Recommendation",
     "ReorderPointPlan",
+    "RiskBand",
     "SparesPool",
+    "SpreadPosterior",
     "StartRisk",
     "StepLaw",
     "StockoutRisk",
     "TransientLaw",
     "WORK_CAP",
+    "WeekdayProfile",
     "Work",
     "best_policy",
     "brownian_first_passage",
     "checks",
     "continuous_level_distribution",
+    "empirical_change_law",
     "expected_duration",
     "expected_shortage",
     "fill_rate",
     "first_stockout_times",
+    "fit_count_law",
+    "goodness_of_fit",
+    "law_posterior",
     "law_power",
     "lead_time_demand",
     "level_distribution",
@@ -77,12 +98,16 @@ __all__ = [
     "normal_loss",
     "normal_stockout_curve",
     "protection_demand",
+    "recommend_law",
     "reorder_point",
     "reorder_point_plan",
+    "risk_band",
+    "risk_band_work",
     "ruin_probability",
     "safety_stock",
     "smallest_order_up_to",
     "smallest_reorder_level",
     "unfilled_share",
+    "weekday_profile",
     "wilson_interval",
 ]
