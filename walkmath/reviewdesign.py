@@ -28,6 +28,7 @@ import numpy as np
 
 from walkmath import checks
 from walkmath.cost import Work
+from walkmath.distribution import work as power_work
 from walkmath.leadtime import lead_time_demand
 from walkmath.policy import (
     LEAD_CAP,
@@ -204,12 +205,7 @@ def smallest_order_up_to(
     measure over all S (exact up to rounding, curves monotone in S).
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
-    gap = checks.whole("gap", gap, minimum=1, maximum=LEVEL_CAP)
-    top = (
-        _default_top(demand, lead_time, unmet, gap)
-        if top is None
-        else checks.whole("top", top, minimum=gap, maximum=LEVEL_CAP)
-    )
+    gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
     levels = np.arange(gap, top + 1)
     _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size).check()
     shared = _Shared(demand, lead_time, unmet, top, gap)
@@ -221,6 +217,30 @@ def smallest_order_up_to(
         curves, orders = shared.chain_curves(gap, levels)
         curves = _monotone(curves)
     return _level_search(measure, target, levels, curves, orders)
+
+
+def order_up_to_work(
+    demand: StepLaw, lead_time: int = 0, unmet: str = "lost", gap: int = 1, top: int | None = None
+) -> Work:
+    """Priced work of ``smallest_order_up_to`` with these arguments (its default ``top`` included).
+
+    Nothing is solved for backorders or lead time 0; lost sales with a lead time
+    first find the default top (a backorder search, itself cheap).
+    """
+    demand = _count_law(demand)
+    lead_time = checks.whole("lead_time", lead_time, minimum=0, maximum=LEAD_CAP)
+    unmet = checks.choice("unmet", unmet, UNMET_RULES)
+    gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
+    return _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, top - gap + 1) + _lead_work(
+        demand, lead_time, unmet
+    )
+
+
+def _order_up_to_grid(demand: StepLaw, lead_time: int, unmet: str, gap, top) -> tuple[int, int]:
+    gap = checks.whole("gap", gap, minimum=1, maximum=LEVEL_CAP)
+    if top is None:
+        return gap, _default_top(demand, lead_time, unmet, gap)
+    return gap, checks.whole("top", top, minimum=gap, maximum=LEVEL_CAP)
 
 
 # -- smallest reorder level ----------------------------------------------------------------------------------------
@@ -321,18 +341,7 @@ def best_policy(
     measure = checks.choice("measure", measure, MEASURES)
     if target is not None:
         target = checks.open_probability("target", target)
-    if largest_gap is None:
-        economic = math.sqrt(2.0 * order_cost * demand.mean / holding)
-        largest_gap = max(10, math.ceil(3.0 * economic))
-        if top is not None:
-            largest_gap = min(largest_gap, top)
-    largest_gap = checks.whole("largest_gap", largest_gap, minimum=1, maximum=LEVEL_CAP)
-    top = (
-        _default_top(demand, lead_time, unmet, largest_gap)
-        if top is None
-        else checks.whole("top", top, minimum=1, maximum=LEVEL_CAP)
-    )
-    largest_gap = min(largest_gap, top)
+    largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
     _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top).check()
     shared = _Shared(demand, lead_time, unmet, top, largest_gap)
     good, bad = _SERVICE[measure]
@@ -356,6 +365,51 @@ def best_policy(
     if target is not None:
         feasible = _meets(table["service"], table["shortfall"], target)
     return _choice(demand, lead_time, unmet, table, feasible)
+
+
+def best_policy_work(
+    demand: StepLaw,
+    *,
+    holding: float,
+    order_cost: float,
+    lead_time: int = 0,
+    unmet: str = "lost",
+    top: int | None = None,
+    largest_gap: int | None = None,
+) -> Work:
+    """Priced work of ``best_policy`` with these arguments (its default grid included), before any of it runs."""
+    demand = _count_law(demand)
+    holding = _price("holding", holding, positive=True)
+    order_cost = _price("order_cost", order_cost)
+    lead_time = checks.whole("lead_time", lead_time, minimum=0, maximum=LEAD_CAP)
+    unmet = checks.choice("unmet", unmet, UNMET_RULES)
+    largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
+    return _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top) + _lead_work(
+        demand, lead_time, unmet
+    )
+
+
+def _lead_work(demand: StepLaw, lead_time: int, unmet: str) -> Work:
+    """The lead-time demand law the shared forms build once (priced on its own by ``law_power``)."""
+    if lead_time == 0 or unmet == "lost":
+        return Work("lead_time_demand", 1, 0, 1, copies=0)
+    return power_work(demand, lead_time)
+
+
+def _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap) -> tuple[int, int]:
+    """The largest gap S - s and the largest S searched (defaults as ``best_policy`` states them)."""
+    if largest_gap is None:
+        economic = math.sqrt(2.0 * order_cost * demand.mean / holding)
+        largest_gap = max(10, math.ceil(3.0 * economic))
+        if top is not None:
+            largest_gap = min(largest_gap, top)
+    largest_gap = checks.whole("largest_gap", largest_gap, minimum=1, maximum=LEVEL_CAP)
+    top = (
+        _default_top(demand, lead_time, unmet, largest_gap)
+        if top is None
+        else checks.whole("top", top, minimum=1, maximum=LEVEL_CAP)
+    )
+    return min(largest_gap, top), top
 
 
 def _price(name: str, value, positive: bool = False) -> float:
