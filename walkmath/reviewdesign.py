@@ -62,7 +62,8 @@ class LevelSearch:
     ``levels`` are the candidates (order-up-to levels S, or reorder levels s);
     ``service[i]`` the measure there, ``shortfall[i]`` its complement from its own
     side; ``stockout``, ``fill_rate``, ``mean_on_hand``, ``orders_per_period`` the
-    other measures at each candidate. ``answer`` is None when no candidate meets
+    other measures at each candidate; ``mean_short`` the mean units of demand not
+    served from stock per period. ``answer`` is None when no candidate meets
     the target.
     """
 
@@ -76,6 +77,7 @@ class LevelSearch:
     fill_rate: np.ndarray
     mean_on_hand: np.ndarray
     orders_per_period: np.ndarray
+    mean_short: np.ndarray | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -305,6 +307,7 @@ def _level_search(measure, target, levels, curves, orders) -> LevelSearch:
         fill_rate=curves["fill_rate"],
         mean_on_hand=curves["mean_on_hand"],
         orders_per_period=orders,
+        mean_short=curves["mean_short"],
     )
 
 

@@ -276,7 +276,8 @@ class ReorderPointPlan:
     the normal rule over-protects); ``gap_service`` = exact service achieved at
     the normal point - the target (negative: the normal rule under-protects).
     ``expected_short[i]`` = B(points[i]) = E[(D - r)+], the expected units short
-    per order cycle, as survival sums (non-negative terms).
+    per order cycle, as survival sums (non-negative terms); ``protection`` the
+    protection-interval demand law the curves are read from.
     """
 
     measure: str
@@ -299,6 +300,7 @@ class ReorderPointPlan:
     shortfall: np.ndarray
     normal_service: np.ndarray
     expected_short: np.ndarray | None = None
+    protection: LevelDistribution | None = None
 
 
 def reorder_point_plan(
@@ -377,6 +379,7 @@ def reorder_point_plan(
         shortfall=shortfall,
         normal_service=np.asarray(normal_service, dtype=float),
         expected_short=expected_short,
+        protection=law,
     )
 
 

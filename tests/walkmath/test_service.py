@@ -333,3 +333,11 @@ def test_plan_price_refuses_what_the_plan_refuses():
         reorder_point_plan_work(demand, 2, "fill")
     with pytest.raises(ValueError, match="lead_time \\+ review_period must be at least 1 period"):
         reorder_point_plan_work(demand, 0)
+
+
+def test_plan_keeps_the_protection_law_its_curves_come_from():
+    demand = wm.StepLaw.negative_binomial(mean=0.3, variance=1.5)
+    plan = reorder_point_plan(demand, 4, 0.99, review_period=1)
+    direct = protection_demand(demand, 4, 1)
+    np.testing.assert_array_equal(plan.protection.probs, direct.probs)
+    np.testing.assert_array_equal(plan.protection.levels, direct.levels)
