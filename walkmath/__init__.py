@@ -16,13 +16,21 @@ from walkmath.compare import (
 )
 from walkmath.continuous import BirthDeath, TransientLaw
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
-from walkmath.distribution import LevelDistribution, law_power, level_distribution
+from walkmath.distribution import LevelDistribution, law_power, law_power_work, level_distribution
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
 from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
-from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
+from walkmath.reviewdesign import (
+    LevelSearch,
+    PolicyChoice,
+    best_policy,
+    best_policy_work,
+    order_up_to_work,
+    smallest_order_up_to,
+    smallest_reorder_level,
+)
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.service import (
     ReorderPointPlan,
@@ -31,6 +39,7 @@ from walkmath.service import (
     normal_loss,
     protection_demand,
     reorder_point_plan,
+    reorder_point_plan_work,
     unfilled_share,
 )
 from walkmath.sizing import CapacityRisk
@@ -62,6 +71,7 @@ __all__ = [
     "WORK_CAP",
     "Work",
     "best_policy",
+    "best_policy_work",
     "brownian_first_passage",
     "checks",
     "continuous_level_distribution",
@@ -70,15 +80,18 @@ __all__ = [
     "fill_rate",
     "first_stockout_times",
     "law_power",
+    "law_power_work",
     "lead_time_demand",
     "level_distribution",
     "monte_carlo_outlook",
     "normal_level_distribution",
     "normal_loss",
     "normal_stockout_curve",
+    "order_up_to_work",
     "protection_demand",
     "reorder_point",
     "reorder_point_plan",
+    "reorder_point_plan_work",
     "ruin_probability",
     "safety_stock",
     "smallest_order_up_to",

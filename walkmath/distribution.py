@@ -106,11 +106,15 @@ def level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
 
 def law_power(law: StepLaw, times: int) -> tuple[int, np.ndarray]:
     """Lowest value and probabilities of the sum of ``times`` independent copies of ``law`` (work priced first)."""
+    law_power_work(law, times).check()
+    return _power(law, times)
+
+
+def law_power_work(law: StepLaw, times: int) -> Work:
+    """Priced work of ``law_power(law, times)`` (what it checks before it runs)."""
     if not isinstance(law, StepLaw):
         raise ValueError(f"law must be a single StepLaw; got {type(law).__name__}")
-    times = checks.horizon(times, "times")
-    _plan((law,), times, "law_power")[0].check()
-    return _power(law, times)
+    return _plan((law,), checks.horizon(times, "times"), "law_power")[0]
 
 
 def work(law, steps: int) -> Work:
