@@ -80,6 +80,13 @@ class LevelDistribution:
         index = checks.whole("level", level) - int(self.levels[0])
         return math.fsum(self.probs[max(index + 1, 0) :])
 
+    def tails(self) -> tuple[np.ndarray, np.ndarray]:
+        """P(level <= levels[i]) and P(level > levels[i]) for every level, each a cumulative sum of
+        non-negative terms from its own end (never 1 - the other)."""
+        below = np.minimum(np.cumsum(self.probs), 1.0)
+        at_least = np.cumsum(self.probs[::-1])[::-1]
+        return below, np.minimum(np.append(at_least[1:], 0.0), 1.0)
+
 
 def level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
     """Law of ``start + S_steps`` for a free walk; ``law`` may be a cyclic list of StepLaws.

@@ -157,10 +157,7 @@ def protection_work(demand: StepLaw, longest: int, lead_values: int | None = Non
 
 def _tails(law: LevelDistribution) -> tuple[np.ndarray, np.ndarray]:
     """P(D <= k) and P(D > k) for k = 0..max, each a cumulative sum of non-negative terms from its own end."""
-    below = np.minimum(np.cumsum(law.probs), 1.0)
-    at_least = np.cumsum(law.probs[::-1])[::-1]
-    above = np.minimum(np.append(at_least[1:], 0.0), 1.0)
-    return below, above
+    return law.tails()
 
 
 # -- expected shortage and fill rate ---------------------------------------------------------------
