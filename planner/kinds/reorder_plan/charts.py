@@ -26,8 +26,10 @@ from planner.formatting import number, period_name, probability, units
 from planner.kinds.reorder_plan.compute import ReorderResult
 from planner.kinds.reorder_plan.words import gap_words, measure_label, policy_rhythm, policy_service_label
 
-# Amounts whose probability is below this share of the most likely one are left off the bar charts.
-BAR_FLOOR = 1e-7
+# Amounts whose probability is below this share of the most likely one are left off the bar charts
+# (the lead-time demand opens on a log axis, where its tail shows; the stock law on a linear one).
+DEMAND_FLOOR = 1e-6
+STOCK_FLOOR = 1e-5
 # Service curves are drawn until the shortfall is this share of the target's (or of the normal rule's).
 SHORTFALL_REACH = 1e-2
 MARGIN = 2  # units shown beyond the marked points
@@ -37,9 +39,9 @@ def _chart(figure: dict, summary: str, table: str) -> dict:
     return {"figure": figure, "summary": summary, "table": table}
 
 
-def _visible(probs: np.ndarray, *must: int, offset: int = 0) -> slice:
-    """Indices whose probability reaches ``BAR_FLOOR`` of the largest, widened to hold the ``must`` points."""
-    keep = np.flatnonzero(probs >= BAR_FLOOR * probs.max())
+def _visible(probs: np.ndarray, floor: float, *must: int, offset: int = 0) -> slice:
+    """Indices whose probability reaches ``floor`` of the largest, widened to hold the ``must`` points."""
+    keep = np.flatnonzero(probs >= floor * probs.max())
     low, high = int(keep[0]), int(keep[-1])
     for point in must:
         low, high = min(low, point - offset - MARGIN), max(high, point - offset + MARGIN)
@@ -71,7 +73,7 @@ def _bars(x, y, name: str, color) -> dict:
 def lead_time_chart(result: ReorderResult) -> dict:
     """Demand over the protection interval, with the exact and the normal rule's reorder points marked."""
     law, plan, unit = result.protection, result.plan, result.unit
-    shown = _visible(law.probs, plan.reorder_point, plan.normal_reorder_point, offset=int(law.levels[0]))
+    shown = _visible(law.probs, DEMAND_FLOOR, plan.reorder_point, plan.normal_reorder_point, offset=int(law.levels[0]))
     fig = {
         "data": [_bars(law.levels[shown], law.probs[shown], "demand", OVERFLOW)],
         "layout": layout(
@@ -79,14 +81,17 @@ def lead_time_chart(result: ReorderResult) -> dict:
             f"demand ({unit})",
             "probability",
             log_switch=True,
+            y_type="log",
             y_range=log_range(law.probs[shown]),
         ),
     }
     fig["layout"].update(bargap=0.05, hovermode="closest")
     add_vline(fig, plan.reorder_point + 0.5, f"reorder point {number(plan.reorder_point)}", INK)
     add_vline(fig, plan.normal_reorder_point + 0.5, f"normal rule {number(plan.normal_reorder_point)}", NORMAL)
-    fig["layout"]["annotations"][-1]["yanchor"] = "bottom"  # keep the two labels apart when the points are close
-    fig["layout"]["annotations"][-1]["y"] = 0.9
+    # The lower point's label reads leftwards and sits lower, so close points keep their labels apart.
+    exact_label, normal_label = fig["layout"]["annotations"][-2:]
+    lower = normal_label if plan.normal_reorder_point < plan.reorder_point else exact_label
+    lower.update(xanchor="right", y=0.9)
     summary = (
         f"Demand over {result.span} averages {units(plan.mean_demand, unit)} "
         f"(standard deviation {number(plan.sigma_demand)}); it stays at or below the reorder point of "
@@ -160,7 +165,7 @@ def stock_chart(result: ReorderResult) -> dict:
     """The review policy's long-run stock at the end of a review cycle; below 0, backorders."""
     policy, unit = result.policy, result.unit
     stock = policy.stock
-    shown = _visible(stock.probs, 0, offset=int(stock.levels[0]))
+    shown = _visible(stock.probs, STOCK_FLOOR, 0, offset=int(stock.levels[0]))
     levels, probs = stock.levels[shown], stock.probs[shown]
     short, kept = levels < 0, levels >= 0
     rhythm = policy_rhythm(result.params)
@@ -194,7 +199,8 @@ def order_up_to_chart(result: ReorderResult) -> dict:
     policy, unit, p = result.policy, result.unit, result.params
     search = policy.search
     label = policy_service_label(p)
-    marks = [policy.order_up_to] + ([policy.cheapest_level] if policy.cheapest_level is not None else [])
+    normal = result.normal_order_up_to
+    marks = [policy.order_up_to, normal] + ([policy.cheapest_level] if policy.cheapest_level is not None else [])
     inside = _decision_range(search.service, search.shortfall, p.target, marks, int(search.levels[0]))
     x = search.levels[inside]
     fig = {
@@ -213,7 +219,10 @@ def order_up_to_chart(result: ReorderResult) -> dict:
             1, line(x, search.fill_rate[inside], "fill rate", INK, width=2, dash="dot", hover=probability)
         )
     fig["layout"]["yaxis"]["tickformat"] = ".0%"
-    add_vline(fig, policy.order_up_to, f"smallest meeting the target: {number(policy.order_up_to)}", INK)
+    add_vline(fig, policy.order_up_to, f"smallest: {number(policy.order_up_to)}", INK)
+    if normal != policy.order_up_to:
+        add_vline(fig, normal, f"normal rule: {number(normal)}", NORMAL)
+        fig["layout"]["annotations"][-1].update(y=0.8, xanchor="right" if normal < policy.order_up_to else "left")
     summary = (
         f"Counting {policy_rhythm(p)} with orders of at least {units(policy.gap, unit)}, the smallest "
         f"order-up-to level meeting the {probability(p.target)} target ({label}) is {units(policy.order_up_to, unit)}"
@@ -223,15 +232,16 @@ def order_up_to_chart(result: ReorderResult) -> dict:
         cost["yaxis"] = "y2"
         fig["data"].append(cost)
         fig["layout"]["yaxis2"] = {
-            "title": {"text": f"cost per {period_name(p.period)}"},
+            "title": {"text": f"cost / {period_name(p.period)}"},
             "overlaying": "y",
             "side": "right",
             "showgrid": False,
             "rangemode": "tozero",
         }
-        fig["layout"]["margin"]["r"] = 64
+        fig["layout"]["margin"]["r"] = 72
         if policy.cheapest_level != policy.order_up_to:
             add_vline(fig, policy.cheapest_level, f"cheapest: {number(policy.cheapest_level)}", TARGET)
+            fig["layout"]["annotations"][-1]["y"] = 0.9
         summary += (
             f", at {number(policy.cost_per_period)} per {period_name(p.period)}; the cheapest level meeting it is "
             f"{units(policy.cheapest_level, unit)} at {number(float(policy.cost[policy.cheapest_index]))}"

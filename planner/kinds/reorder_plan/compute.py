@@ -61,6 +61,14 @@ class ReviewPolicy:
         """The target's measure at the chosen order-up-to level (per review cycle for the cycle service level)."""
         return float(self.search.service[self.order_up_to - int(self.search.levels[0])])
 
+    def service_at(self, order_up_to: int) -> float:
+        """The target's measure at any order-up-to level: 0 below the searched ones (nothing in stock to
+        speak of), 1 above them (the search ends where no stock-out can happen)."""
+        index = order_up_to - int(self.search.levels[0])
+        if index < 0:
+            return 0.0
+        return float(self.search.service[index]) if index < self.search.levels.size else 1.0
+
     @property
     def cheapest_level(self) -> int | None:
         return None if self.cheapest_index is None else int(self.search.levels[self.cheapest_index])
@@ -123,6 +131,21 @@ class ReorderResult:
     @property
     def gap_words(self) -> str:
         return words.gap_words(self)
+
+    @property
+    def normal_order_up_to(self) -> int:
+        """The normal rule's order-up-to level at the review policy's order size (common practice): its
+        reorder point for an order-up-to policy (orders of whatever was used), else that point + the order size."""
+        gap = self.policy.gap if self.policy is not None else 1
+        return self.plan.normal_reorder_point + (gap if gap > 1 else 0)
+
+    @property
+    def policy_rule(self) -> str:
+        return words.policy_rule(self)
+
+    @property
+    def count_moment(self) -> str:
+        return words.count_moment(self.params)
 
     @property
     def gap_figure(self) -> str:
@@ -264,7 +287,11 @@ class ReorderJob:
         share of demand not served from stock. The target stored beside it is 1 - the plan's target.
         """
         plan = self._plan()
-        span = "an order cycle" if self.params.measure == "cycle" else "an order cycle (share of demand unfilled)"
+        span = (
+            "an order cycle"
+            if self.params.measure == "cycle"
+            else "an order cycle (share of demand not served from stock)"
+        )
         return float(plan.shortfall_at_point), span
 
     def run(self, allowed: dict[str, int]) -> ReorderResult:

@@ -67,10 +67,26 @@ def policy_service_label(params) -> str:
     return "review cycles without a stock-out"
 
 
+def apart(value: float, other: float) -> str:
+    """``value`` as a percentage with enough digits not to read the same as ``other`` (96.8 % against 98 %)."""
+    for digits in range(3, 9):
+        text = probability(value, digits)
+        if text != probability(other, digits):
+            return text
+    return text
+
+
 def recommendation(result) -> str:
-    """One sentence in the trade's words: when to reorder, what it achieves and what the normal rule would do."""
-    p, plan = result.params, result.plan
-    unit = p.unit
+    """One sentence in the trade's words: when to reorder, what it achieves and what the normal rule would do.
+
+    Stock watched all the time: the reorder point on the demand over the lead time. Stock counted every
+    few periods, when the review policy could be worked out: its reorder and order-up-to levels, exact
+    for the counts, beside the normal rule's level for the same order size (the common-practice formula).
+    """
+    p = result.params
+    if p.review_period and result.policy is not None:
+        return _counted_recommendation(result)
+    plan, unit = result.plan, p.unit
     if p.review_period:
         start = (
             f"At each count ({policy_rhythm(p)}), order when the stock on hand plus on order is at or below "
@@ -80,39 +96,74 @@ def recommendation(result) -> str:
         start = f"Reorder when the stock on hand plus on order falls to {units(plan.reorder_point, unit)} or fewer"
     if p.order_quantity:
         start += f", {units(p.order_quantity, unit)} at a time"
-    meets = (
-        f": that meets the {probability(plan.target)} {measure_label(p.measure)} (exactly {probability(plan.achieved)})"
-    )
-    normal = units(plan.normal_reorder_point, unit)
-    if result.under_protects:
-        compare = (
-            f", where the usual normal rule would reorder at {normal} and reach only "
-            f"{probability(plan.normal_achieved)}."
-        )
-    elif result.over_protects:
-        compare = (
-            f", where the usual normal rule would reorder at {normal}, holding "
-            f"{units(plan.gap_units, unit)} more than needed ({probability(plan.normal_achieved)})."
-        )
+    label = measure_label(p.measure)
+    meets = f": that meets the {probability(plan.target)} {label} (exactly {apart(plan.achieved, plan.target)})"
+    return start + meets + _compare(plan.normal_reorder_point, plan.gap_units, plan.normal_achieved, plan.target, unit)
+
+
+def _counted_recommendation(result) -> str:
+    p, policy, unit = result.params, result.policy, result.params.unit
+    target = p.target
+    if policy.gap == 1:
+        start = f"At each count ({policy_rhythm(p)}), order the stock back up to {units(policy.order_up_to, unit)}"
     else:
-        compare = ", as the usual normal rule also finds."
-    return start + meets + compare
+        start = (
+            f"At each count ({policy_rhythm(p)}), if the stock on hand plus on order is at or below "
+            f"{units(policy.reorder_level, unit)}, order it up to {units(policy.order_up_to, unit)}"
+        )
+    meets = (
+        f": that meets the {probability(target)} {policy_service_label(p)} (exactly {apart(policy.service, target)})"
+    )
+    normal_level = result.normal_order_up_to
+    gap = normal_level - policy.order_up_to
+    normal_service = policy.service_at(normal_level)
+    named = normal_level if policy.gap == 1 else normal_level - policy.gap
+    return start + meets + _compare(named, gap, normal_service, target, unit, policy.gap == 1)
+
+
+def _compare(level: int, gap: int, achieved: float, target: float, unit: str, up_to: bool = False) -> str:
+    """', where the usual normal rule would reorder at 7 crates and reach only 96.8 %.' and the like."""
+    verb = "order up to" if up_to else "reorder at"
+    if gap < 0:
+        return (
+            f", where the usual normal rule would {verb} {units(level, unit)} and reach only {apart(achieved, target)}."
+        )
+    if gap > 0:
+        return (
+            f", where the usual normal rule would {verb} {units(level, unit)}, holding "
+            f"{units(gap, unit)} more than needed ({apart(achieved, target)})."
+        )
+    return ", as the usual normal rule also finds."
 
 
 def gap_words(result) -> str:
-    """The normal rule's gap in units and in achieved service: '5 crates short: 96.8 % against 99 %'."""
+    """The normal rule's gap in units and in achieved service: '5 crates too low: it reaches 96.8 % against 99 %'."""
     plan, unit = result.plan, result.params.unit
+    achieved = apart(plan.normal_achieved, plan.target)
     if result.under_protects:
-        return (
-            f"{units(-plan.gap_units, unit)} too low: it reaches {probability(plan.normal_achieved)} "
-            f"against the {probability(plan.target)} target"
-        )
+        target = probability(plan.target)
+        return f"{units(-plan.gap_units, unit)} too low: it reaches {achieved} against the {target} target"
     if result.over_protects:
         return (
-            f"{units(plan.gap_units, unit)} more than needed: it reaches {probability(plan.normal_achieved)} "
+            f"{units(plan.gap_units, unit)} more than needed: it reaches {achieved} "
             f"where {probability(plan.target)} was asked"
         )
     return "none: the normal rule finds the same reorder point"
+
+
+def policy_rule(result) -> str:
+    """The review policy's rule in a few words, for its figure card."""
+    policy, unit = result.policy, result.params.unit
+    if policy.gap == 1:
+        return f"each count, order back up to it whatever was used (reorder level {units(policy.reorder_level, unit)})"
+    return f"order when at or below {units(policy.reorder_level, unit)} (orders of at least {units(policy.gap, unit)})"
+
+
+def count_moment(params) -> str:
+    """When the review policy's stock figures are taken: 'at the end of each day', 'at each count'."""
+    if params.review_cycle == 1:
+        return f"at the end of each {period_name(params.period)}"
+    return "at each count, before ordering"
 
 
 def gap_figure(result) -> str:
