@@ -56,6 +56,15 @@ class ReorderPlan(Kind):
     def table_rows(self, result, table):
         return tables.ROWS[table](result)
 
+    def sample_changes(self, params) -> list[dict]:
+        """Lead time one shorter, as saved and one longer (the review period instead for a lead-time table)."""
+        if params.fixed_lead_time:
+            shortest = 0 if params.review_period else 1
+            values = sorted({max(shortest, params.lead_time - 1), params.lead_time, params.lead_time + 1})
+            return [{"lead_time": value} for value in values]
+        values = sorted({max(0, params.review_period - 1), params.review_period, params.review_period + 1})
+        return [{"review_period": value} for value in values]
+
     def preview_form(self, data):
         return DemandLeadTimeForm(data)
 
