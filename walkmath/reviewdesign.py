@@ -387,9 +387,11 @@ def best_policy_work(
     lead_time = checks.whole("lead_time", lead_time, minimum=0, maximum=LEAD_CAP)
     unmet = checks.choice("unmet", unmet, UNMET_RULES)
     largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
-    return _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top) + _lead_work(
-        demand, lead_time, unmet
-    )
+    # The search and its lead-time law; then the chosen policy's measures (bounded by the largest S and gap),
+    # which build their own lead-time law.
+    lead = _lead_work(demand, lead_time, unmet)
+    chosen = PeriodicReview(demand, top - largest_gap, top, lead_time, unmet).cost() + lead
+    return _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top) + lead + chosen
 
 
 def _lead_work(demand: StepLaw, lead_time: int, unmet: str) -> Work:

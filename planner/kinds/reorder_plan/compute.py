@@ -214,27 +214,36 @@ class ReorderJob:
         return wm.StepLaw.from_pmf({low: 1.0 - weight, high: weight})
 
     def _policy_units(self) -> int:
-        """The review policy's work: the cycle's demand law, the order-up-to search, the chosen policy."""
+        """The review policy's work: the cycle's demand law, the order-up-to search, the chosen policy.
+
+        The cycle's law is priced, not built: for a cycle longer than one period a stand-in with its
+        span and mean prices the searches' sweeps, and each lead-time law (the search's and the chosen
+        policy's) is priced as the period's law over the same periods.
+        """
         p = self.params
         cycle, lead, gap = p.review_cycle, p.policy_lead_cycles, p.order_quantity or 1
-        law = self._stand_in(cycle)
-        search = wm.order_up_to_work(law, lead, UNMET, gap=gap)
+        law = self.demand if cycle == 1 else self._stand_in(cycle)
         top = gap - 1 + (lead + 1) * law.highest  # the search's default top (no stock-out there) bounds the answer
-        chosen = wm.PeriodicReview(law, top - gap, top, lead, UNMET).cost()
-        total = search.units + chosen.units
-        if lead:
-            total += wm.law_power_work(law, lead).units  # the chosen policy's lead-time law
-        if cycle > 1:
-            total += wm.law_power_work(self.demand, cycle).units
-        return total
+        units = wm.order_up_to_work(law, lead, UNMET, gap=gap).units
+        units += wm.PeriodicReview(law, top - gap, top, lead, UNMET).cost().units
+        return units + self._lead_laws(1 if cycle == 1 else 2)
+
+    def _lead_laws(self, count: int) -> int:
+        """``count`` lead-time laws over the review cycles, priced on the period's law, and the cycle's law."""
+        p = self.params
+        cycle, lead = p.review_cycle, p.policy_lead_cycles
+        units = count * wm.law_power_work(self.demand, cycle * lead).units if lead else 0
+        return units + (wm.law_power_work(self.demand, cycle).units if cycle > 1 else 0)
 
     def _cheapest_units(self) -> int:
         p = self.params
         holding, order_cost, _ = p.prices()
-        law = self._stand_in(p.review_cycle)
-        return wm.best_policy_work(
-            law, holding=holding * p.review_cycle, order_cost=order_cost, lead_time=p.policy_lead_cycles, unmet=UNMET
-        ).units
+        cycle = p.review_cycle
+        law = self.demand if cycle == 1 else self._stand_in(cycle)
+        search = wm.best_policy_work(
+            law, holding=holding * cycle, order_cost=order_cost, lead_time=p.policy_lead_cycles, unmet=UNMET
+        )
+        return search.units + (self._lead_laws(2) if cycle > 1 else 0)
 
     def parts(self) -> list[Part]:
         """Every engine call the page makes, priced with the engine's cost model (level·period·jump units).
