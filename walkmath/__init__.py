@@ -22,15 +22,8 @@ from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
-from walkmath.reviewdesign import (
-    LevelSearch,
-    PolicyChoice,
-    best_policy,
-    best_policy_work,
-    order_up_to_work,
-    smallest_order_up_to,
-    smallest_reorder_level,
-)
+from walkmath.reviewcost import best_policy_work, order_up_to_work
+from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.service import (
     ReorderPointPlan,

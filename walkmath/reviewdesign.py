@@ -28,7 +28,6 @@ import numpy as np
 
 from walkmath import checks
 from walkmath.cost import Work
-from walkmath.distribution import work as power_work
 from walkmath.leadtime import lead_time_demand
 from walkmath.policy import (
     LEAD_CAP,
@@ -221,23 +220,6 @@ def smallest_order_up_to(
     return _level_search(measure, target, levels, curves, orders)
 
 
-def order_up_to_work(
-    demand: StepLaw, lead_time: int = 0, unmet: str = "lost", gap: int = 1, top: int | None = None
-) -> Work:
-    """Priced work of ``smallest_order_up_to`` with these arguments (its default ``top`` included).
-
-    Nothing is solved for backorders or lead time 0; lost sales with a lead time
-    first find the default top (a backorder search, itself cheap).
-    """
-    demand = _count_law(demand)
-    lead_time = checks.whole("lead_time", lead_time, minimum=0, maximum=LEAD_CAP)
-    unmet = checks.choice("unmet", unmet, UNMET_RULES)
-    gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
-    return _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, top - gap + 1) + _lead_work(
-        demand, lead_time, unmet
-    )
-
-
 def _order_up_to_grid(demand: StepLaw, lead_time: int, unmet: str, gap, top) -> tuple[int, int]:
     gap = checks.whole("gap", gap, minimum=1, maximum=LEVEL_CAP)
     if top is None:
@@ -368,37 +350,6 @@ def best_policy(
     if target is not None:
         feasible = _meets(table["service"], table["shortfall"], target)
     return _choice(demand, lead_time, unmet, table, feasible)
-
-
-def best_policy_work(
-    demand: StepLaw,
-    *,
-    holding: float,
-    order_cost: float,
-    lead_time: int = 0,
-    unmet: str = "lost",
-    top: int | None = None,
-    largest_gap: int | None = None,
-) -> Work:
-    """Priced work of ``best_policy`` with these arguments (its default grid included), before any of it runs."""
-    demand = _count_law(demand)
-    holding = _price("holding", holding, positive=True)
-    order_cost = _price("order_cost", order_cost)
-    lead_time = checks.whole("lead_time", lead_time, minimum=0, maximum=LEAD_CAP)
-    unmet = checks.choice("unmet", unmet, UNMET_RULES)
-    largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
-    # The search and its lead-time law; then the chosen policy's measures (bounded by the largest S and gap),
-    # which build their own lead-time law.
-    lead = _lead_work(demand, lead_time, unmet)
-    chosen = PeriodicReview(demand, top - largest_gap, top, lead_time, unmet).cost() + lead
-    return _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top) + lead + chosen
-
-
-def _lead_work(demand: StepLaw, lead_time: int, unmet: str) -> Work:
-    """The lead-time demand law the shared forms build once (priced on its own by ``law_power``)."""
-    if lead_time == 0 or unmet == "lost":
-        return Work("lead_time_demand", 1, 0, 1, copies=0)
-    return power_work(demand, lead_time)
 
 
 def _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap) -> tuple[int, int]:
