@@ -20,6 +20,7 @@ Two answers, each exact for its own model:
 
 from __future__ import annotations
 
+import contextlib
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -254,9 +255,12 @@ class ReorderJob:
         """
         parts = [Part("reorder_point", self._plan_work().units)]
         if self.params.policy_lead_cycles is not None:
-            parts.append(Part("policy", self._policy_units(), required=False))
-            if self.params.has_costs:
-                parts.append(Part("cheapest", self._cheapest_units(), required=False))
+            for name, price in (("policy", self._policy_units), ("cheapest", self._cheapest_units)):
+                if name == "cheapest" and not self.params.has_costs:
+                    continue
+                # Past one of the engine's limits (a level over a million units): left out, with its note.
+                with contextlib.suppress(ValueError):
+                    parts.append(Part(name, price(), required=False))
         return parts
 
     def refusal(self, units_of_work: int, cap: int) -> str:

@@ -111,9 +111,8 @@ def _counted_recommendation(result) -> str:
             f"At each count ({policy_rhythm(p)}), if the stock on hand plus on order is at or below "
             f"{units(policy.reorder_level, unit)}, order it up to {units(policy.order_up_to, unit)}"
         )
-    meets = (
-        f": that meets the {probability(target)} {policy_service_label(p)} (exactly {apart(policy.service, target)})"
-    )
+    goal = "fill rate" if p.measure == "fill" else f"target of {policy_service_label(p)}"
+    meets = f": that meets the {probability(target)} {goal} (exactly {apart(policy.service, target)})"
     normal_level = result.normal_order_up_to
     gap = normal_level - policy.order_up_to
     normal_service = policy.service_at(normal_level)

@@ -254,3 +254,12 @@ def test_refusal_names_the_knobs():
     assert "demand over the lead time could reach" in message and "sacks" not in message
     assert "2.5 times this server's limit" in message
     assert "shorten the lead time" in message and "order quantity" in message
+
+
+def test_a_policy_past_the_engine_s_limits_is_left_out_not_an_error():
+    # An order size near the largest the form takes puts the order-up-to levels past the engine's limit.
+    params = poisson_plan(5.0, 3, 0.95, order_quantity=999_990)
+    job = ReorderJob(params)
+    assert [part.name for part in job.parts()] == ["reorder_point"]
+    result = job.run({part.name: part.units for part in job.parts()})
+    assert result.policy is None and "too large" in result.left_out[0]

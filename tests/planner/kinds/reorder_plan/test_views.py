@@ -2,12 +2,14 @@
 
 import csv
 import io
+import re
 
 import pytest
 from django.urls import reverse
 from scipy import stats
 
 from planner.models import Scenario
+from tests.planner.kinds.reorder_plan.test_charts import METHOD_WORDS
 from tests.planner.kinds.reorder_plan.test_forms import GOOD, NEW
 
 pytestmark = pytest.mark.django_db
@@ -102,3 +104,13 @@ def test_optional_figures_left_out_say_so(client, igniters, settings):
     page = client.get(igniters.get_absolute_url()).content.decode()
     assert "Not shown: the cheapest policy on your costs (too large a search for one request)" in page
     assert 'data-figure="order-up-to"' in page and 'data-figure="cheapest"' not in page
+
+
+def test_pages_speak_the_trade_s_words(client, igniters):
+    # What a reader sees (tags, attributes and the chart data left aside): no method words.
+    for url in (igniters.get_absolute_url(), reverse("scenario_edit", kwargs={"pk": igniters.pk}), NEW):
+        html = client.get(url).content.decode()
+        html = re.sub(r"<script.*?</script>", " ", html, flags=re.DOTALL)
+        text = re.sub(r"<[^>]+>", " ", html)
+        assert "Reorder" in text or "reorder" in text
+        assert not METHOD_WORDS.search(text), METHOD_WORDS.search(text)
