@@ -114,3 +114,11 @@ def test_pages_speak_the_trade_s_words(client, igniters):
         text = re.sub(r"<[^>]+>", " ", html)
         assert "Reorder" in text or "reorder" in text
         assert not METHOD_WORDS.search(text), METHOD_WORDS.search(text)
+
+
+def test_counted_stock_says_how_holding_is_charged(client, owner):
+    client.force_login(owner)
+    client.post(NEW, GOOD | {"review_period": "2", "lead_time": "4"})
+    page = client.get(Scenario.objects.get().get_absolute_url()).content.decode()
+    assert "holding charged on the stock left at each count" in page
+    assert "At each count (every 2 days)" in page
