@@ -8,6 +8,7 @@ from django import forms
 
 from planner.formatting import percent_input
 
+ROW = re.compile(r"^\s*([+-]?\d+)\s*[:=]\s*([0-9.eE+-]+)\s*$")
 PERCENT = re.compile(r"^\s*([0-9]*\.?[0-9]+(?:[eE][+-]?[0-9]+)?)\s*%?\s*$")
 
 
@@ -40,3 +41,25 @@ class PercentField(forms.Field):
         if isinstance(value, float):
             return value
         return parse_percent(value)
+
+
+def parse_table(text: str) -> tuple[tuple[int, float], ...]:
+    """Rows 'value: probability' separated by commas or new lines."""
+    rows = []
+    for chunk in re.split(r"[,\n;]+", text or ""):
+        if not chunk.strip():
+            continue
+        match = ROW.match(chunk)
+        if not match:
+            raise forms.ValidationError(
+                f"Write each row as 'value: probability', e.g. '-1: 0.4'; could not read {chunk.strip()!r}."
+            )
+        try:
+            rows.append((int(match[1]), float(match[2])))
+        except ValueError as exc:
+            raise forms.ValidationError(f"Could not read the probability in {chunk.strip()!r}.") from exc
+    return tuple(rows)
+
+
+def format_table(rows) -> str:
+    return ", ".join(f"{value}: {prob:.12g}" for value, prob in rows)

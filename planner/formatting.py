@@ -11,8 +11,6 @@ import math
 SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
 # Below this a probability is written as a power of ten (0.1 %).
 PERCENT_FLOOR = 1e-3
-# Above this (and below 1) a probability would round to "100 %"; it is written "> 99.9 %" instead.
-NEAR_CERTAIN = 0.9995
 
 PERIODS = {
     "day": ("day", "days"),
@@ -28,8 +26,11 @@ def scientific(value: float, digits: int = 3) -> str:
     return f"{float(mantissa):g} × 10{str(int(exponent)).translate(SUPERSCRIPT)}"
 
 
-def probability(value) -> str:
-    """0.0231 -> '2.31 %', 6.63e-12 -> '6.63 × 10⁻¹²', 0 -> '0 %', None -> '—'."""
+def probability(value, digits: int = 3) -> str:
+    """0.0231 -> '2.31 %', 6.63e-12 -> '6.63 × 10⁻¹²', 0 -> '0 %', None -> '—' (``digits`` significant digits).
+
+    With more digits, values near 1 keep more of them: 0.99991 is '> 99.9 %' with 3 and '99.991 %' with 5.
+    """
     if value is None:
         return "—"
     value = float(value)
@@ -37,11 +38,12 @@ def probability(value) -> str:
         return "0 %"
     if value >= 1:
         return "100 %"
-    if value > NEAR_CERTAIN:
-        return "> 99.9 %"
-    if float(f"{value:.2e}") >= PERCENT_FLOOR:
-        return f"{100 * value:.3g} %"
-    return scientific(value)
+    near_certain = 1 - 5 * 10.0 ** -(digits + 1)  # above it (and below 1) the value would round to "100 %"
+    if value > near_certain:
+        return f"> 99.{'9' * (digits - 2)} %"
+    if float(f"{value:.{digits - 1}e}") >= PERCENT_FLOOR:
+        return f"{100 * value:.{digits}g} %"
+    return scientific(value, digits)
 
 
 def number(value, digits: int = 3) -> str:

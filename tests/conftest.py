@@ -27,19 +27,42 @@ def outsider(django_user_model):
 
 @pytest.fixture
 def small_params():
-    """A quick, capacity-bound walk: +1 w.p. 0.3, -1 w.p. 0.4 on 0..8."""
-    return StockPlanParams(
+    """A quick, capacity-bound plan: one more unit w.p. 0.3, one fewer w.p. 0.4, on 0..8."""
+    return KIND_EXAMPLES["stock_plan"]()
+
+
+def small_reorder_params():
+    """A quick reorder plan: Poisson demand 0.8 crates a day, lead time 3 days, 95 % cycle service level."""
+    from planner.count_law import CountLaw
+    from planner.kinds.reorder_plan.params import ReorderPlanParams
+
+    return ReorderPlanParams(
+        demand=CountLaw("poisson", mean=0.8), target=0.95, lead_time=3, unit="crates", order_quantity=6
+    )
+
+
+# One small example per scenario kind (its key -> its parameters): the generic view tests run every URL on each.
+KIND_EXAMPLES = {
+    "stock_plan": lambda: StockPlanParams(
         start=4, horizon=12, low=0, high=8, below="lost", above="spill", step_method="nearest", up=0.3, down=0.4
+    ),
+    "reorder_plan": small_reorder_params,
+}
+
+
+def example_scenario(owner, kind: str):
+    """A saved scenario of ``kind`` from its example, named as every generic view test expects."""
+    from planner.services import scenario_create
+
+    assert kind in KIND_EXAMPLES, "add a small example of the new kind to KIND_EXAMPLES in tests/conftest.py"
+    return scenario_create(
+        owner=owner, kind=kind, title="Rye loaf shelf", params=KIND_EXAMPLES[kind](), notes="Back shelf."
     )
 
 
 @pytest.fixture
-def scenario(owner, small_params):
-    from planner.services import scenario_create
-
-    return scenario_create(
-        owner=owner, kind="stock_plan", title="Rye loaf shelf", params=small_params, notes="Back shelf."
-    )
+def scenario(owner):
+    return example_scenario(owner, "stock_plan")
 
 
 def pytest_configure(config):

@@ -16,7 +16,7 @@ from walkmath.compare import (
 )
 from walkmath.continuous import BirthDeath, TransientLaw
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
-from walkmath.distribution import LevelDistribution, law_power, level_distribution
+from walkmath.distribution import LevelDistribution, law_power, law_power_work, level_distribution
 from walkmath.fitting import ChangeFit, CountFit, Estimate, empirical_change_law, fit_count_law
 from walkmath.goodness import FrequencyRow, GoodnessOfFit, PooledCell, Recommendation, goodness_of_fit, recommend_law
 from walkmath.leadtime import lead_time_demand, reorder_point, safety_stock
@@ -26,6 +26,7 @@ from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
 from walkmath.posterior import ChangePosterior, RatePosterior, SpreadPosterior, law_posterior
 from walkmath.profile import WeekdayProfile, weekday_profile
+from walkmath.reviewcost import best_policy_work, order_up_to_work
 from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.service import (
@@ -35,6 +36,7 @@ from walkmath.service import (
     normal_loss,
     protection_demand,
     reorder_point_plan,
+    reorder_point_plan_work,
     unfilled_share,
 )
 from walkmath.sizing import CapacityRisk
@@ -79,6 +81,7 @@ __all__ = [
     "WeekdayProfile",
     "Work",
     "best_policy",
+    "best_policy_work",
     "brownian_first_passage",
     "checks",
     "continuous_level_distribution",
@@ -91,16 +94,19 @@ __all__ = [
     "goodness_of_fit",
     "law_posterior",
     "law_power",
+    "law_power_work",
     "lead_time_demand",
     "level_distribution",
     "monte_carlo_outlook",
     "normal_level_distribution",
     "normal_loss",
     "normal_stockout_curve",
+    "order_up_to_work",
     "protection_demand",
     "recommend_law",
     "reorder_point",
     "reorder_point_plan",
+    "reorder_point_plan_work",
     "risk_band",
     "risk_band_work",
     "ruin_probability",

@@ -13,7 +13,7 @@ their own cap.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 COST_METHODS = (
     "outlook",
@@ -55,15 +55,10 @@ class Work:
         return self.copies * self.periods * (self.levels * self.jumps + PERIOD_OVERHEAD) + self.dense
 
     def __add__(self, other: Work) -> Work:
-        return Work(
-            method=f"{self.method} + {other.method}",
-            levels=max(self.levels, other.levels),
-            periods=max(self.periods, other.periods),
-            jumps=max(self.jumps, other.jumps),
-            copies=1,
-            dense=self.units + other.units,
-            knob=self.knob,
-        )
+        """The work of both calls: the part with more units, carrying the other's units as dense extra, so
+        units add up exactly (never the product of one part's levels and another's periods)."""
+        larger, smaller = (self, other) if self.units >= other.units else (other, self)
+        return replace(larger, method=f"{self.method} + {other.method}", dense=larger.dense + smaller.units)
 
     def check(self, cap: int = WORK_CAP) -> Work:
         """Return self, or raise ``ComputeTooLarge`` when ``units`` exceeds ``cap`` or the levels held

@@ -80,6 +80,13 @@ class LevelDistribution:
         index = checks.whole("level", level) - int(self.levels[0])
         return math.fsum(self.probs[max(index + 1, 0) :])
 
+    def tails(self) -> tuple[np.ndarray, np.ndarray]:
+        """P(level <= levels[i]) and P(level > levels[i]) for every level, each a cumulative sum of
+        non-negative terms from its own end (never 1 - the other)."""
+        below = np.minimum(np.cumsum(self.probs), 1.0)
+        at_least = np.cumsum(self.probs[::-1])[::-1]
+        return below, np.minimum(np.append(at_least[1:], 0.0), 1.0)
+
 
 def level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
     """Law of ``start + S_steps`` for a free walk; ``law`` may be a cyclic list of StepLaws.
@@ -106,11 +113,15 @@ def level_distribution(law, steps: int, start: int = 0) -> LevelDistribution:
 
 def law_power(law: StepLaw, times: int) -> tuple[int, np.ndarray]:
     """Lowest value and probabilities of the sum of ``times`` independent copies of ``law`` (work priced first)."""
+    law_power_work(law, times).check()
+    return _power(law, times)
+
+
+def law_power_work(law: StepLaw, times: int) -> Work:
+    """Priced work of ``law_power(law, times)`` (what it checks before it runs)."""
     if not isinstance(law, StepLaw):
         raise ValueError(f"law must be a single StepLaw; got {type(law).__name__}")
-    times = checks.horizon(times, "times")
-    _plan((law,), times, "law_power")[0].check()
-    return _power(law, times)
+    return _plan((law,), checks.horizon(times, "times"), "law_power")[0]
 
 
 def work(law, steps: int) -> Work:

@@ -83,19 +83,7 @@ def _smallest_covering(probs: np.ndarray, service: float) -> int:
 def _compound(demand: StepLaw, lead_time: StepLaw) -> np.ndarray:
     """sum_L P(L) demand^{*L} on levels 0..L_max * demand.highest, as non-negative additions."""
     _check_support(demand, lead_time.highest)
-    # One np.convolve of the running power with the demand law per lead time beyond the shortest.
-    span, width = demand.probs.size - 1, demand.probs.size
-    first, last = lead_time.lowest, lead_time.highest
-    powers = (last - first) * (first * span + 1) + span * (last - first) * (last - first - 1) // 2
-    Work(
-        "lead_time_demand (random lead time)",
-        last * span + 1,
-        last - first,
-        width,
-        copies=0,
-        dense=powers * width,
-        knob="shorten the longest lead time or coarsen the demand units",
-    ).check()
+    compound_work(demand, lead_time).check()
     result = np.zeros(lead_time.highest * demand.highest + 1)
     lowest, power = law_power(demand, lead_time.lowest)
     for offset, weight in enumerate(lead_time.probs):
@@ -105,6 +93,23 @@ def _compound(demand: StepLaw, lead_time: StepLaw) -> np.ndarray:
         if weight > 0:
             result[lowest : lowest + power.size] += weight * power
     return np.minimum(result, 1.0)  # a certain level may gather 1 + 1 ulp from rounded weights
+
+
+def compound_work(demand: StepLaw, lead_time: StepLaw) -> Work:
+    """Work of the mixture over a lead-time law: one ``np.convolve`` of the running power with the
+    demand law per lead time beyond the shortest (the shortest power itself is priced by the caller)."""
+    span, width = demand.probs.size - 1, demand.probs.size
+    first, last = lead_time.lowest, lead_time.highest
+    powers = (last - first) * (first * span + 1) + span * (last - first) * (last - first - 1) // 2
+    return Work(
+        "lead_time_demand (random lead time)",
+        last * span + 1,
+        last - first,
+        width,
+        copies=0,
+        dense=powers * width,
+        knob="shorten the longest lead time or coarsen the demand units",
+    )
 
 
 def _demand_law(demand) -> StepLaw:

@@ -61,7 +61,8 @@ class LevelSearch:
     ``levels`` are the candidates (order-up-to levels S, or reorder levels s);
     ``service[i]`` the measure there, ``shortfall[i]`` its complement from its own
     side; ``stockout``, ``fill_rate``, ``mean_on_hand``, ``orders_per_period`` the
-    other measures at each candidate. ``answer`` is None when no candidate meets
+    other measures at each candidate; ``mean_short`` the mean units of demand not
+    served from stock per period. ``answer`` is None when no candidate meets
     the target.
     """
 
@@ -75,6 +76,7 @@ class LevelSearch:
     fill_rate: np.ndarray
     mean_on_hand: np.ndarray
     orders_per_period: np.ndarray
+    mean_short: np.ndarray | None = None
 
 
 @dataclass(frozen=True, eq=False)
@@ -204,12 +206,7 @@ def smallest_order_up_to(
     measure over all S (exact up to rounding, curves monotone in S).
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
-    gap = checks.whole("gap", gap, minimum=1, maximum=LEVEL_CAP)
-    top = (
-        _default_top(demand, lead_time, unmet, gap)
-        if top is None
-        else checks.whole("top", top, minimum=gap, maximum=LEVEL_CAP)
-    )
+    gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
     levels = np.arange(gap, top + 1)
     _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size).check()
     shared = _Shared(demand, lead_time, unmet, top, gap)
@@ -221,6 +218,13 @@ def smallest_order_up_to(
         curves, orders = shared.chain_curves(gap, levels)
         curves = _monotone(curves)
     return _level_search(measure, target, levels, curves, orders)
+
+
+def _order_up_to_grid(demand: StepLaw, lead_time: int, unmet: str, gap, top) -> tuple[int, int]:
+    gap = checks.whole("gap", gap, minimum=1, maximum=LEVEL_CAP)
+    if top is None:
+        return gap, _default_top(demand, lead_time, unmet, gap)
+    return gap, checks.whole("top", top, minimum=gap, maximum=LEVEL_CAP)
 
 
 # -- smallest reorder level ----------------------------------------------------------------------------------------
@@ -285,6 +289,7 @@ def _level_search(measure, target, levels, curves, orders) -> LevelSearch:
         fill_rate=curves["fill_rate"],
         mean_on_hand=curves["mean_on_hand"],
         orders_per_period=orders,
+        mean_short=curves["mean_short"],
     )
 
 
@@ -321,18 +326,7 @@ def best_policy(
     measure = checks.choice("measure", measure, MEASURES)
     if target is not None:
         target = checks.open_probability("target", target)
-    if largest_gap is None:
-        economic = math.sqrt(2.0 * order_cost * demand.mean / holding)
-        largest_gap = max(10, math.ceil(3.0 * economic))
-        if top is not None:
-            largest_gap = min(largest_gap, top)
-    largest_gap = checks.whole("largest_gap", largest_gap, minimum=1, maximum=LEVEL_CAP)
-    top = (
-        _default_top(demand, lead_time, unmet, largest_gap)
-        if top is None
-        else checks.whole("top", top, minimum=1, maximum=LEVEL_CAP)
-    )
-    largest_gap = min(largest_gap, top)
+    largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
     _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top).check()
     shared = _Shared(demand, lead_time, unmet, top, largest_gap)
     good, bad = _SERVICE[measure]
@@ -356,6 +350,22 @@ def best_policy(
     if target is not None:
         feasible = _meets(table["service"], table["shortfall"], target)
     return _choice(demand, lead_time, unmet, table, feasible)
+
+
+def _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap) -> tuple[int, int]:
+    """The largest gap S - s and the largest S searched (defaults as ``best_policy`` states them)."""
+    if largest_gap is None:
+        economic = math.sqrt(2.0 * order_cost * demand.mean / holding)
+        largest_gap = max(10, math.ceil(3.0 * economic))
+        if top is not None:
+            largest_gap = min(largest_gap, top)
+    largest_gap = checks.whole("largest_gap", largest_gap, minimum=1, maximum=LEVEL_CAP)
+    top = (
+        _default_top(demand, lead_time, unmet, largest_gap)
+        if top is None
+        else checks.whole("top", top, minimum=1, maximum=LEVEL_CAP)
+    )
+    return min(largest_gap, top), top
 
 
 def _price(name: str, value, positive: bool = False) -> float:

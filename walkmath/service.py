@@ -34,7 +34,8 @@ from scipy import optimize, special
 from walkmath import checks
 from walkmath.cost import Work
 from walkmath.distribution import LevelDistribution
-from walkmath.leadtime import SUPPORT_CAP, lead_time_demand
+from walkmath.distribution import work as power_work
+from walkmath.leadtime import SUPPORT_CAP, compound_work, lead_time_demand
 from walkmath.steplaw import StepLaw
 
 MEASURES = ("cycle", "fill")
@@ -102,24 +103,33 @@ def protection_demand(demand: StepLaw, lead_time: int | StepLaw, review_period: 
     A thin wrapper over ``lead_time_demand``: a fixed lead time L becomes L + R
     periods, a lead-time law is shifted by R; the work is priced first.
     """
+    periods = _interval(lead_time, review_period)
+    _interval_work(demand, periods).check()
+    return lead_time_demand(demand, periods)
+
+
+def _interval(lead_time: int | StepLaw, review_period: int) -> int | StepLaw:
+    """The protection interval L + R in periods: a whole number, or a law over whole numbers."""
     review_period = checks.whole("review_period", review_period, minimum=0, maximum=checks.HORIZON_CAP)
     if isinstance(lead_time, StepLaw):
         if lead_time.lowest < 0:
             raise ValueError(f"lead_time must be at least 0 periods; the lead-time law reaches {lead_time.lowest}")
-        periods_law = StepLaw(lead_time.lowest + review_period, lead_time.probs, lead_time.truncated_mass)
-        periods = periods_law
-        longest = periods_law.highest
+        periods = StepLaw(lead_time.lowest + review_period, lead_time.probs, lead_time.truncated_mass)
     else:
         lead = checks.whole("lead_time", lead_time, minimum=0, maximum=checks.HORIZON_CAP)
-        periods = longest = lead + review_period
+        periods = lead + review_period
     if (periods.lowest if isinstance(periods, StepLaw) else periods) < 1:
         raise ValueError(
             "lead_time + review_period must be at least 1 period (an order that arrives at once with continuous "
             "review has no demand to protect against)"
         )
-    spread = periods.probs.size if isinstance(periods, StepLaw) else None
-    protection_work(demand, longest, spread).check()
-    return lead_time_demand(demand, periods)
+    return periods
+
+
+def _interval_work(demand: StepLaw, periods: int | StepLaw) -> Work:
+    if isinstance(periods, StepLaw):
+        return protection_work(demand, periods.highest, periods.probs.size)
+    return protection_work(demand, periods)
 
 
 def protection_work(demand: StepLaw, longest: int, lead_values: int | None = None) -> Work:
@@ -147,10 +157,7 @@ def protection_work(demand: StepLaw, longest: int, lead_values: int | None = Non
 
 def _tails(law: LevelDistribution) -> tuple[np.ndarray, np.ndarray]:
     """P(D <= k) and P(D > k) for k = 0..max, each a cumulative sum of non-negative terms from its own end."""
-    below = np.minimum(np.cumsum(law.probs), 1.0)
-    at_least = np.cumsum(law.probs[::-1])[::-1]
-    above = np.minimum(np.append(at_least[1:], 0.0), 1.0)
-    return below, above
+    return law.tails()
 
 
 # -- expected shortage and fill rate ---------------------------------------------------------------
@@ -221,6 +228,40 @@ def _fill_sides(demand, lead_time, reorder_point, order_quantity, review_period)
 # -- reorder point for a target, beside the normal rule ----------------------------------------------
 
 
+def reorder_point_plan_work(
+    demand: StepLaw,
+    lead_time: int | StepLaw,
+    measure: str = "cycle",
+    order_quantity: int | None = None,
+    review_period: int = 0,
+) -> Work:
+    """Priced work of ``reorder_point_plan`` with these arguments, before any of it runs.
+
+    The protection-interval law (the power of the demand law, ``distribution.work``; for a
+    lead-time law also the mixture, ``leadtime.compound_work``) and, for a fill-rate target, the window sums over
+    the curve (levels x order quantity). Raises ValueError on arguments the plan
+    itself would refuse.
+    """
+    measure = checks.choice("measure", measure, MEASURES)
+    periods = _interval(lead_time, review_period)
+    random = isinstance(periods, StepLaw)
+    longest = periods.highest if random else periods
+    # The interval check, the power of the demand law (the shortest interval's, for a law) and the mixture.
+    work = _interval_work(demand, periods) + power_work(demand, periods.lowest if random else periods)
+    if random:
+        work = work + compound_work(demand, periods)
+    if measure == "fill":
+        quantity = _order_quantity(order_quantity)
+        work = work + Work("fill_rate_curve", longest * demand.highest + quantity + 1, 1, quantity)
+    return work
+
+
+def _order_quantity(order_quantity) -> int:
+    if order_quantity is None:
+        raise ValueError(f"order_quantity must be a whole number from 1 to {QUANTITY_CAP} for a fill-rate target")
+    return checks.whole("order_quantity", order_quantity, minimum=1, maximum=QUANTITY_CAP)
+
+
 @dataclass(frozen=True, eq=False)
 class ReorderPointPlan:
     """Smallest reorder point meeting a cycle-service or fill-rate target, and the normal rule beside it.
@@ -231,6 +272,9 @@ class ReorderPointPlan:
     model claims there. ``gap_units`` = normal point - exact point (positive:
     the normal rule over-protects); ``gap_service`` = exact service achieved at
     the normal point - the target (negative: the normal rule under-protects).
+    ``expected_short[i]`` = B(points[i]) = E[(D - r)+], the expected units short
+    per order cycle, as survival sums (non-negative terms); ``protection`` the
+    protection-interval demand law the curves are read from.
     """
 
     measure: str
@@ -252,6 +296,8 @@ class ReorderPointPlan:
     service: np.ndarray
     shortfall: np.ndarray
     normal_service: np.ndarray
+    expected_short: np.ndarray | None = None
+    protection: LevelDistribution | None = None
 
 
 def reorder_point_plan(
@@ -274,12 +320,7 @@ def reorder_point_plan(
     """
     target = checks.open_probability("target", target)
     measure = checks.choice("measure", measure, MEASURES)
-    if measure == "fill":
-        if order_quantity is None:
-            raise ValueError("order_quantity must be a whole number from 1 to 10000000 for a fill-rate target")
-        quantity = checks.whole("order_quantity", order_quantity, minimum=1, maximum=QUANTITY_CAP)
-    else:
-        quantity = None
+    quantity = _order_quantity(order_quantity) if measure == "fill" else None
     law = protection_demand(demand, lead_time, review_period)
     mean, sigma = _normal_moments(demand, lead_time, review_period)
     below, above = _tails(law)
@@ -305,6 +346,9 @@ def reorder_point_plan(
         z = normal_loss_inverse((1.0 - target) * quantity / sigma) if sigma > 0 else 0.0
         normal_loss_values = sigma * normal_loss((points - mean) / sigma) if sigma > 0 else np.maximum(mean - points, 0)
         normal_service = np.clip(1.0 - normal_loss_values / quantity, 0.0, 1.0)
+    loss = np.cumsum(above[::-1])[::-1]  # B(k) = sum_{j >= k} P(D > j), k = 0..top
+    below_zero = np.maximum(-points, 0)  # B(r) = -r + B(0) for r < 0 (the shortage is certain)
+    expected_short = np.where(points < 0, below_zero + loss[0], loss[np.maximum(points, 0)])
     index = _first_meeting(service, shortfall, target)
     point = int(points[index])
     normal_point = math.ceil(mean + z * sigma - 1e-9 * max(1.0, abs(mean)))  # a whole unit, rounded up
@@ -331,6 +375,8 @@ def reorder_point_plan(
         service=service,
         shortfall=shortfall,
         normal_service=np.asarray(normal_service, dtype=float),
+        expected_short=expected_short,
+        protection=law,
     )
 
 

@@ -105,6 +105,10 @@ class Kind:
         """Header row then data rows of one CSV table (plain machine numbers)."""
         raise NotImplementedError
 
+    def sample_changes(self, params) -> list[dict]:
+        """A few what-if queries near the saved plan, for the benchmarks and the load test (none by default)."""
+        return []
+
     def preview_form(self, data):
         """The form behind the live preview (None: the kind has no preview)."""
         return None

@@ -88,3 +88,13 @@ def test_units_and_percent_input():
     assert formatting.units(None) == "—"
     assert formatting.percent_input(0.05) == "5"
     assert formatting.percent_input(1e-6) == "0.0001"
+
+
+def test_probability_with_more_digits_tells_close_values_apart():
+    probability = formatting.probability
+    # 0.97998 and 0.98 read the same with three digits; five tell them apart (formatting rule of this project).
+    assert probability(0.97998) == probability(0.98) == "98 %"
+    assert probability(0.97998, 5) == "97.998 %" and probability(0.98, 5) == "98 %"
+    assert probability(0.99991) == "> 99.9 %" and probability(0.99991, 5) == "99.991 %"
+    assert probability(0.999999, 5) == "> 99.999 %"
+    assert probability(2.5e-7, 4) == "2.5 × 10⁻⁷"

@@ -1,4 +1,4 @@
-"""load_demo: the demo account and three differently shaped scenarios, idempotent."""
+"""load_demo: the demo account and differently shaped scenarios of every kind, idempotent."""
 
 import json
 from io import StringIO
@@ -33,7 +33,7 @@ def test_prints_working_sign_in_details_and_is_idempotent():
 
 def test_demo_scenarios_show_different_shapes():
     load()
-    results = {s.title: scenario_reading(scenario=s).result for s in Scenario.objects.all()}
+    results = {s.title: scenario_reading(scenario=s).result for s in Scenario.objects.filter(kind="stock_plan")}
     drift = [r for r in results.values() if r.params.high is None and r.cycle_mean < 0]
     bound = [r for r in results.values() if r.params.high is not None and r.spilled_units and r.overflow_risk > 0.1]
     weekly = [r for r in results.values() if r.params.delivery_every == 7 and len(r.laws) == 7]
@@ -51,3 +51,14 @@ def test_demo_text_stays_in_the_fictional_island():
 def test_every_demo_plan_has_its_headline_stored():
     load()
     assert not Scenario.objects.filter(headline_risk__isnull=True).exists()
+
+
+def test_demo_reorder_plans_show_the_normal_rule_both_ways():
+    load()
+    results = [scenario_reading(scenario=s).result for s in Scenario.objects.filter(kind="reorder_plan")]
+    # A slow, lumpy item where the normal rule reorders too late, and a slow, steady one where it holds too much.
+    slow = [r for r in results if r.params.demand.mean_count() < 1]
+    assert [(r.reorder_point, r.normal_reorder_point) for r in slow if r.under_protects] == [(12, 7)]
+    assert [(r.reorder_point, r.normal_reorder_point) for r in slow if r.over_protects] == [(1, 2)]
+    assert any(r.params.review_period and r.policy is not None for r in results)  # a counted store, exact
+    assert all(not r.left_out for r in results)

@@ -11,36 +11,40 @@ import walkmath as wm
 from planner.formatting import probability
 from planner.kinds import all_kinds, get_kind
 from planner.models import Scenario
-from tests.conftest import PASSWORD
+from tests.conftest import PASSWORD, example_scenario
 
 pytestmark = pytest.mark.django_db
 
-# (url name, extra kwargs, method) for every URL that shows or changes one scenario, whatever its kind.
+# (kind, url name, extra kwargs, method) for every URL that shows or changes one scenario, for every kind.
 SCENARIO_VIEWS = [
-    ("scenario_results", {}, "get"),
-    ("scenario_edit", {}, "get"),
-    ("scenario_edit", {}, "post"),
-    ("scenario_delete", {}, "get"),
-    ("scenario_delete", {}, "post"),
-    ("scenario_outlook_json", {}, "get"),
-    ("scenario_cross_check_json", {}, "get"),
-    ("scenario_variant_save", {}, "post"),
-] + [("scenario_csv", {"table": table}, "get") for kind in all_kinds() for table in [*kind.tables, *kind.check_tables]]
+    (kind.key, name, extra, method)
+    for kind in all_kinds()
+    for name, extra, method in [
+        ("scenario_results", {}, "get"),
+        ("scenario_edit", {}, "get"),
+        ("scenario_edit", {}, "post"),
+        ("scenario_delete", {}, "get"),
+        ("scenario_delete", {}, "post"),
+        ("scenario_outlook_json", {}, "get"),
+        ("scenario_cross_check_json", {}, "get"),  # 404 for the owner of a kind without a cross-check
+        ("scenario_variant_save", {}, "post"),
+    ]
+    + [("scenario_csv", {"table": table}, "get") for table in [*kind.tables, *kind.check_tables]]
+]
 KIND_VIEWS = [(name, kind.key) for kind in all_kinds() for name in ("scenario_new_kind", "kind_preview")]
 
 
-@pytest.fixture(params=[kind.key for kind in all_kinds()])
-def any_scenario(request, scenario):
-    """One saved scenario per registered kind (each kind's own small example)."""
-    assert scenario.kind == request.param, "add a small example of the new kind to tests/conftest.py"
-    return scenario
+@pytest.fixture
+def any_scenario(owner, kind):
+    """One saved scenario of the kind under test (each kind's own small example, tests/conftest.py)."""
+    return example_scenario(owner, kind)
 
 
 def url_for(name, scenario, extra):
     return reverse(name, kwargs={"pk": scenario.pk} | extra)
 
 
-@pytest.mark.parametrize(("name", "extra", "method"), SCENARIO_VIEWS)
+@pytest.mark.parametrize(("kind", "name", "extra", "method"), SCENARIO_VIEWS)
 def test_outsider_gets_404_and_changes_nothing(client, any_scenario, outsider, name, extra, method):
     client.force_login(outsider)
     data = {"title": "Taken over", "start": "2"}
@@ -50,7 +54,7 @@ def test_outsider_gets_404_and_changes_nothing(client, any_scenario, outsider, n
     assert Scenario.objects.count() == 1
 
 
-@pytest.mark.parametrize(("name", "extra", "method"), SCENARIO_VIEWS)
+@pytest.mark.parametrize(("kind", "name", "extra", "method"), SCENARIO_VIEWS)
 def test_anonymous_is_sent_to_sign_in(client, any_scenario, name, extra, method):
     response = getattr(client, method)(url_for(name, any_scenario, extra))
     assert response.status_code == 302
@@ -58,7 +62,7 @@ def test_anonymous_is_sent_to_sign_in(client, any_scenario, name, extra, method)
     assert Scenario.objects.count() == 1
 
 
-@pytest.mark.parametrize(("name", "extra", "method"), SCENARIO_VIEWS)
+@pytest.mark.parametrize(("kind", "name", "extra", "method"), SCENARIO_VIEWS)
 def test_owner_is_answered(client, any_scenario, name, extra, method):
     client.force_login(any_scenario.owner)
     data = {"title": "Rye loaf shelf, copy"} if name == "scenario_variant_save" else {}
@@ -111,8 +115,12 @@ def test_list_shows_only_own_scenarios_with_their_stored_headline(client, scenar
     assert probability(scenario.headline_risk) in page
 
 
-def test_new_scenario_goes_to_the_only_kind(client, owner):
+def test_new_scenario_lists_every_kind_or_goes_to_the_only_one(client, owner, monkeypatch):
     client.force_login(owner)
+    page = client.get(reverse("scenario_new")).content.decode()
+    for kind in all_kinds():
+        assert reverse("scenario_new_kind", kwargs={"kind": kind.key}) in page and kind.label in page
+    monkeypatch.setattr("planner.views.all_kinds", lambda: [get_kind("stock_plan")])
     response = client.get(reverse("scenario_new"))
     assert response.status_code == 302
     assert response["Location"] == reverse("scenario_new_kind", kwargs={"kind": "stock_plan"})

@@ -6,6 +6,7 @@ from fractions import Fraction
 import mpmath
 import numpy as np
 import pytest
+from scipy import stats
 
 import walkmath as wm
 from walkmath import distribution
@@ -108,3 +109,13 @@ def test_bad_input_names_the_field():
         wm.level_distribution(law, steps=3, start=1.5)
     with pytest.raises(ValueError, match="law"):
         wm.level_distribution([], steps=3)
+
+
+def test_tails_are_each_summed_from_their_own_end():
+    # Poisson(30) over 0..: scipy.stats cdf and sf (sf computed directly, not as 1 - cdf) as the reference.
+    law = wm.lead_time_demand(wm.StepLaw.poisson(mean=3.0), 10)
+    below, above = law.tails()
+    keep = law.levels <= 90  # beyond, the per-period cut at 1e-24 shows (walkmath/steplaw.py): 4e-9 at 110
+    np.testing.assert_allclose(below[keep], stats.poisson.cdf(law.levels[keep], 30.0), rtol=1e-10)
+    np.testing.assert_allclose(above[keep], stats.poisson.sf(law.levels[keep], 30.0), rtol=1e-10)
+    assert above[100] < 1e-20 and np.all(np.diff(below) >= 0) and np.all(np.diff(above) <= 0)

@@ -156,3 +156,13 @@ def test_bad_inputs_name_the_parameter():
         best_policy(demand, holding=1.0, order_cost=-1.0)
     with pytest.raises(wm.ComputeTooLarge, match="lower top"):
         best_policy(wm.StepLaw.poisson(mean=30.0), holding=1.0, order_cost=50.0, lead_time=3, unmet="lost")
+
+
+@pytest.mark.parametrize("lead_time, unmet", [(0, "lost"), (2, "backorder"), (1, "lost")])
+def test_search_mean_short_is_each_policy_s_own(lead_time, unmet):
+    # The curve against one PeriodicReview at a time (its renewal or chain solve, a separate path).
+    demand = wm.StepLaw.from_pmf({0: 0.3, 1: 0.4, 3: 0.3})
+    search = smallest_order_up_to(demand, 0.9, "fill", lead_time, unmet, gap=2, top=12)
+    for level, short in zip(search.levels, search.mean_short, strict=True):
+        alone = PeriodicReview(demand, int(level) - 2, int(level), lead_time, unmet).measures().mean_short
+        assert short == pytest.approx(alone, rel=1e-12, abs=1e-300), level

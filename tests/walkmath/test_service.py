@@ -18,6 +18,7 @@ from walkmath.service import (
     normal_loss_inverse,
     protection_demand,
     reorder_point_plan,
+    reorder_point_plan_work,
     unfilled_share,
 )
 
@@ -274,3 +275,69 @@ def test_other_bad_inputs_name_the_parameter():
         wm.expected_shortage({0: 1.0}, 2, 3)
     with pytest.raises(ValueError, match="protection interval x largest demand"):
         wm.expected_shortage(demand, 10**6, 3)
+
+
+# -- the plan's expected shortage curve and its price ----------------------------------------------------
+
+
+@pytest.mark.parametrize("measure, quantity", [("cycle", None), ("fill", 6)])
+def test_plan_expected_shortage_curve_is_the_loss_at_every_point(measure, quantity):
+    # Poisson loss E[(D - r)+] = mu P(D >= r) - r P(D > r) (Hadley and Whitin 1963, from memory) with
+    # scipy.stats near the mean, where it has no cancellation; below 0 the shortage is D - r (definition).
+    demand = wm.StepLaw.poisson(mean=2.0)
+    plan = reorder_point_plan(demand, 3, 0.9, measure=measure, order_quantity=quantity)
+    for point, short in zip(plan.points, plan.expected_short, strict=True):
+        if point < 0:
+            assert short == pytest.approx(6.0 - point, rel=1e-13)
+        elif point <= 14:
+            closed = 6.0 * stats.poisson.sf(point - 1, 6.0) - point * stats.poisson.sf(point, 6.0)
+            assert short == pytest.approx(closed, rel=1e-11), point
+    assert np.all(plan.expected_short >= 0) and np.all(np.diff(plan.expected_short) <= 0)
+    far = plan.points.size - 40  # deep in the tail: the separate survival sum of expected_shortage agrees
+    assert plan.expected_short[far] == pytest.approx(wm.expected_shortage(demand, 3, int(plan.points[far])), rel=1e-12)
+
+
+def _checked_units(monkeypatch, call) -> int:
+    """Units of every Work the call checks against the cap (as the engine prices it on the way)."""
+    seen = []
+    real = wm.Work.check
+
+    def record(work, cap=wm.WORK_CAP):
+        seen.append(work.units)
+        return real(work, cap)
+
+    monkeypatch.setattr(wm.Work, "check", record)
+    call()
+    monkeypatch.undo()
+    return sum(seen)
+
+
+@pytest.mark.parametrize(
+    "lead_time, review_period, measure, quantity",
+    [(4, 0, "cycle", None), (3, 2, "fill", 25), ("table", 1, "cycle", None), ("table", 0, "fill", 40)],
+)
+def test_plan_price_covers_every_priced_step_of_the_plan(monkeypatch, lead_time, review_period, measure, quantity):
+    demand = wm.StepLaw.negative_binomial(mean=3.0, variance=7.0)
+    if lead_time == "table":
+        lead_time = wm.StepLaw.from_pmf({2: 0.5, 5: 0.3, 9: 0.2})
+    priced = reorder_point_plan_work(demand, lead_time, measure, quantity, review_period).units
+    spent = _checked_units(
+        monkeypatch, lambda: reorder_point_plan(demand, lead_time, 0.95, measure, quantity, review_period)
+    )
+    assert spent > 0 and priced >= spent
+
+
+def test_plan_price_refuses_what_the_plan_refuses():
+    demand = wm.StepLaw.poisson(mean=2.0)
+    with pytest.raises(ValueError, match="order_quantity must be a whole number from 1"):
+        reorder_point_plan_work(demand, 2, "fill")
+    with pytest.raises(ValueError, match="lead_time \\+ review_period must be at least 1 period"):
+        reorder_point_plan_work(demand, 0)
+
+
+def test_plan_keeps_the_protection_law_its_curves_come_from():
+    demand = wm.StepLaw.negative_binomial(mean=0.3, variance=1.5)
+    plan = reorder_point_plan(demand, 4, 0.99, review_period=1)
+    direct = protection_demand(demand, 4, 1)
+    np.testing.assert_array_equal(plan.protection.probs, direct.probs)
+    np.testing.assert_array_equal(plan.protection.levels, direct.levels)

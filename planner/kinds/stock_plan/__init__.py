@@ -68,6 +68,12 @@ class StockPlan(Kind):
     def table_rows(self, result, table):
         return tables.ROWS[table](result)
 
+    def sample_changes(self, params) -> list[dict]:
+        """Start one lower, as saved and one higher, kept inside the floor and capacity (the horizon as saved)."""
+        top = params.high if params.high is not None else params.start + 1
+        starts = sorted({max(params.low, params.start - 1), params.start, min(top, params.start + 1)})
+        return [{"start": start, "horizon": params.horizon} for start in starts]
+
     def preview_form(self, data):
         return ChangeLawForm(data)
 

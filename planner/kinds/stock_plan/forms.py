@@ -12,9 +12,11 @@ import re
 
 from django import forms
 
+from planner.count_law import MAX_JUMP, CountLaw
+from planner.form_fields import format_table, parse_table
 from planner.formatting import PERIODS, period_name
 from planner.forms import ScenarioFields
-from planner.kinds.stock_plan.params import MAX_HORIZON, MAX_JUMP, MAX_LEVEL, CountLaw, StockPlanParams
+from planner.kinds.stock_plan.params import MAX_HORIZON, MAX_LEVEL, StockPlanParams
 from planner.kinds.stock_plan.words import ABOVE_CHOICE, BELOW_CHOICE
 from walkmath import checks
 
@@ -30,7 +32,6 @@ COUNT_CHOICES = [
     ("table", "Table of amounts"),
 ]
 SUPPLY_CHOICES = [("none", "None")] + COUNT_CHOICES
-ROW = re.compile(r"^\s*([+-]?\d+)\s*[:=]\s*([0-9.eE+-]+)\s*$")
 # Parameter messages start with the input's name; this maps the name to its field.
 MESSAGE_FIELDS = [
     ("start stock", "start"),
@@ -51,28 +52,6 @@ MESSAGE_FIELDS = [
 COUNT_MESSAGE_FIELDS = [("mean", "mean"), ("variance", "variance"), ("amount", "amount"), ("count table", "table")]
 BAND_FIELDS = ("period", "start", "low", "high", "below", "above", "horizon")
 LAW_FIELDS = ("step_method", "up", "down", "step_table", "profile", "delivery_every", "delivery_size")
-
-
-def parse_table(text: str) -> tuple[tuple[int, float], ...]:
-    """Rows 'value: probability' separated by commas or new lines."""
-    rows = []
-    for chunk in re.split(r"[,\n;]+", text or ""):
-        if not chunk.strip():
-            continue
-        match = ROW.match(chunk)
-        if not match:
-            raise forms.ValidationError(
-                f"Write each row as 'value: probability', e.g. '-1: 0.4'; could not read {chunk.strip()!r}."
-            )
-        try:
-            rows.append((int(match[1]), float(match[2])))
-        except ValueError as exc:
-            raise forms.ValidationError(f"Could not read the probability in {chunk.strip()!r}.") from exc
-    return tuple(rows)
-
-
-def format_table(rows) -> str:
-    return ", ".join(f"{value}: {prob:.12g}" for value, prob in rows)
 
 
 def parse_profile(text: str) -> tuple[float, ...]:

@@ -52,9 +52,9 @@ class Command(BaseCommand):
         client = Client(HTTP_HOST="localhost")
         client.force_login(user)
         for scenario in Scenario.objects.filter(owner=user).order_by("pk"):
-            params = scenario.params
+            samples = get_kind(scenario.kind).sample_changes(scenario.params)
             url = reverse("scenario_outlook_json", args=[scenario.pk])
-            query = {"start": max(params.low, params.start - 1), "horizon": params.horizon}
+            query = samples[0] if samples else {}  # the first sample (a stock plan: start one lower)
             client.get(url, query)  # warm caches (imports)
             wall, server = [], []
             for _ in range(repeat):

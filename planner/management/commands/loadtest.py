@@ -28,6 +28,7 @@ from django.conf import settings
 from django.core.management.base import BaseCommand, CommandError
 from django.urls import reverse
 
+from planner.kinds import get_kind
 from planner.models import Scenario
 
 DEMO_FILE = Path(settings.BASE_DIR) / "fixtures" / "demo_scenarios.json"
@@ -104,19 +105,14 @@ class Session:
 
 
 def workload(scenarios) -> list[tuple[str, str, str]]:
-    """(kind, scenario title, path) the clients cycle through: each results page, and for plans with a
-    start level three what-ifs (start one lower, as saved, one higher, kept inside the band)."""
+    """(kind, scenario title, path) the clients cycle through: each results page, and the what-ifs its
+    kind samples near the saved plan (a stock plan: start one lower, as saved, one higher)."""
     jobs = []
     for scenario in scenarios:
-        saved = scenario.parameters  # the stored JSON: read the same way whatever the kind's classes are
+        kind = get_kind(scenario.kind)
         jobs.append(("results page", scenario.title, reverse("scenario_results", args=[scenario.pk])))
-        if "start" not in saved:
-            continue
-        start, low, high = saved["start"], saved.get("low", 0), saved.get("high")
-        top = high if high is not None else start + 1
-        for value in sorted({max(low, start - 1), start, min(top, start + 1)}):
-            query = urlencode({"start": value} | ({"horizon": saved["horizon"]} if "horizon" in saved else {}))
-            path = f"{reverse('scenario_outlook_json', args=[scenario.pk])}?{query}"
+        for changes in kind.sample_changes(kind.params_from_json(scenario.parameters)):
+            path = f"{reverse('scenario_outlook_json', args=[scenario.pk])}?{urlencode(changes)}"
             jobs.append(("what-if JSON", scenario.title, path))
     return jobs
 

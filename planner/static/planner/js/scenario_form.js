@@ -1,4 +1,4 @@
-// Scenario form: show the inputs the chosen step law needs and preview that law as it is typed.
+// Scenario form: show the inputs the chosen laws need and preview the kind's law as it is typed.
 // The form's data-preview-state says where the preview is: busy, shown, waiting (inputs missing) or error.
 (function () {
   "use strict";
@@ -22,9 +22,9 @@
   }
 
   function showGroups() {
-    var method = value("step_method");
+    // A group shows when the choice it belongs to (data-switch, by default step_method) is its data-method.
     form.querySelectorAll(".method-group").forEach(function (group) {
-      group.hidden = group.dataset.method !== method;
+      group.hidden = group.dataset.method !== value(group.dataset.switch || "step_method");
     });
     form.querySelectorAll(".count-law").forEach(function (law) {
       var family = value(law.dataset.prefix + "_family");
@@ -73,9 +73,9 @@
           " cycle the mean change is " + law.cycle_mean.toFixed(3) + " units per " + period +
           " (first " + period + " shown)." : "."));
         Plotly.react(chart, [{ type: "bar", x: law.steps, y: law.probs, marker: { color: "#2b7a84" },
-          hovertemplate: "step %{x}: %{y:.4g}<extra></extra>" }], {
+          hovertemplate: "%{x}: %{y:.4g}<extra></extra>" }], {
           margin: { l: 44, r: 8, t: 8, b: 36 }, height: 200, paper_bgcolor: "rgba(0,0,0,0)", plot_bgcolor: "#fffdf8",
-          xaxis: { title: { text: "change in one " + period + " (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
+          xaxis: { title: { text: law.x_title || "change in one " + period + " (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
           yaxis: { title: { text: "probability" }, rangemode: "tozero" },
           font: { size: 11, color: "#24303f" }
         }, Object.assign(PlannerCharts.config("step-law"), { displayModeBar: false }));

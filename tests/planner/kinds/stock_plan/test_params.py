@@ -238,7 +238,7 @@ def test_first_release_json_still_loads_as_days(data):
 
 
 def test_count_laws_are_built_once_and_shared(monkeypatch):
-    from planner.kinds.stock_plan import params as module
+    from planner import count_law as module
 
     module._count_law.cache_clear()
     built = []
