@@ -22,6 +22,7 @@ from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
+from walkmath.pools import FailedLaw, RatePool, TimeSplit
 from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
 from walkmath.service import (
@@ -36,6 +37,7 @@ from walkmath.service import (
 from walkmath.sizing import CapacityRisk
 from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
+from walkmath.sparesizing import PoolSizing, crews_curve, smallest_crews, smallest_spares, spares_curve
 from walkmath.steplaw import StepLaw
 
 __all__ = [
@@ -44,6 +46,7 @@ __all__ = [
     "COMPUTE_CAP",
     "CapacityRisk",
     "ComputeTooLarge",
+    "FailedLaw",
     "LevelDistribution",
     "LevelSearch",
     "LongOutlook",
@@ -53,11 +56,14 @@ __all__ = [
     "PeriodicReview",
     "PolicyChoice",
     "PolicyMeasures",
+    "PoolSizing",
+    "RatePool",
     "ReorderPointPlan",
     "SparesPool",
     "StartRisk",
     "StepLaw",
     "StockoutRisk",
+    "TimeSplit",
     "TransientLaw",
     "WORK_CAP",
     "Work",
@@ -65,6 +71,7 @@ __all__ = [
     "brownian_first_passage",
     "checks",
     "continuous_level_distribution",
+    "crews_curve",
     "expected_duration",
     "expected_shortage",
     "fill_rate",
@@ -81,8 +88,11 @@ __all__ = [
     "reorder_point_plan",
     "ruin_probability",
     "safety_stock",
+    "smallest_crews",
     "smallest_order_up_to",
     "smallest_reorder_level",
+    "smallest_spares",
+    "spares_curve",
     "unfilled_share",
     "wilson_interval",
 ]

@@ -214,7 +214,10 @@ def _upward_passage(birth: np.ndarray, death: np.ndarray, start: int, target: in
         ratio = 1.0 + (ratio * deaths[level] / births[level - 1] if level > floor and deaths[level] > 0 else 0.0)
         if level >= start:
             passages.append(ratio / births[level])
-    return math.fsum(passages)
+    try:
+        return math.fsum(passages)
+    except OverflowError:  # finite terms whose sum is past the float range
+        return math.inf
 
 
 def _rates(name: str, values) -> np.ndarray:

@@ -9,6 +9,7 @@ given no passage yet from one time to the next, so they are monotone by construc
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -105,6 +106,27 @@ def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> t
         return result, np.zeros(times.size), 0
     windows = [_poisson_window(rate * t) for t in times]
     steps = max(window.first + window.weights.size for window in windows)
+    for begin, block in _powers(chain, initial, steps):
+        rows = block.shape[0]
+        weights = np.zeros((times.size, rows))
+        for i, window in enumerate(windows):
+            low = max(begin, window.first)
+            high = min(begin + rows, window.first + window.weights.size)
+            if low < high:
+                weights[i, low - begin : high - begin] = window.weights[low - window.first : high - window.first]
+        if weights.any():
+            result += weights @ block
+    np.minimum(result, 1.0, out=result)  # a certain level may sum to 1 + 1 ulp
+    return result, np.array([window.dropped for window in windows]), steps
+
+
+def _powers(chain: BirthDeath, initial: np.ndarray, steps: int):
+    """(n, block) with block[i] = v_{n + i} = p0 P^(n + i), for n = 0, STEP_BLOCK, ... below ``steps``.
+
+    Each block is a view of one buffer, overwritten by the next: use it before asking for more.
+    """
+    size = chain.birth.size
+    rate = chain.uniformization_rate
     # P = I + Q / gamma; the stay probability is exactly non-negative because gamma is the maximum
     stay = (rate - (chain.birth + chain.death)) / rate
     up_from = chain.birth[:-1] / rate  # level k -> k + 1, for k = 0..K-1
@@ -117,17 +139,51 @@ def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> t
         block[0] = current
         for row in range(1, rows):
             _step(block[row - 1], block[row], stay, up_from, down_from, scratch)
-        weights = np.zeros((times.size, rows))
-        for i, window in enumerate(windows):
-            low = max(begin, window.first)
-            high = min(begin + rows, window.first + window.weights.size)
-            if low < high:
-                weights[i, low - begin : high - begin] = window.weights[low - window.first : high - window.first]
-        if weights.any():
-            result += weights @ block[:rows]
+        yield begin, block[:rows]
         _step(block[rows - 1], current, stay, up_from, down_from, scratch)
-    np.minimum(result, 1.0, out=result)  # a certain level may sum to 1 + 1 ulp
-    return result, np.array([window.dropped for window in windows]), steps
+
+
+def occupation(chain: BirthDeath, start: int, time: float, inside: np.ndarray) -> tuple[float, float, int]:
+    """Expected time spent in the levels marked ``inside`` and outside them during [0, ``time``] from
+    level ``start``, and the steps taken.
+
+    Uniformization integrated term by term: the integral over [0, t] of p(s) is
+    (1 / gamma) sum_n P(N > n) p0 P^n with N ~ Poisson(gamma t) (Reibman and Trivedi, "Transient
+    analysis of cumulative measures of Markov model behavior", Stochastic Models 5(4), 1989). Each
+    side is a sum of non-negative terms, so a small one keeps its relative accuracy; the two add up
+    to ``time`` to rounding. Cost: as ``BirthDeath.transient`` at ``time``.
+    """
+    rate = chain.uniformization_rate
+    initial = _point_law(chain.birth.size, start)
+    if rate == 0 or time == 0:
+        return (time, 0.0, 0) if inside[start] else (0.0, time, 0)
+    window = _poisson_window(rate * time)
+    end = window.first + window.weights.size
+    # beyond[n] = P(N > n) for n = 0..end-1: 1 below the window, then the window's own tail sums
+    beyond = np.ones(end)
+    tail = np.cumsum(window.weights[::-1])[::-1]  # tail[i] = P(N >= first + i), non-negative sums
+    beyond[window.first :] = np.append(tail[1:], 0.0)
+    marks = np.asarray(inside, dtype=float)
+    within, without = [], []
+    for begin, block in _powers(chain, initial, end):
+        weights = beyond[begin : begin + block.shape[0]]
+        within.append(float(weights @ (block @ marks)))
+        without.append(float(weights @ (block @ (1.0 - marks))))
+    steps = end
+    return math.fsum(within) / rate, math.fsum(without) / rate, steps
+
+
+@functools.lru_cache(maxsize=1024)
+def window_steps(mean: float) -> int:
+    """Uniformization steps one sweep to Poisson mean ``mean`` (= gamma t) takes: the window's end."""
+    window = _poisson_window(mean)
+    return window.first + window.weights.size
+
+
+def passage_steps(rate: float, times: np.ndarray) -> int:
+    """Steps ``absorption_curve`` takes at most over ``times``: one window per gap between sorted times."""
+    gaps = np.diff(np.concatenate(([0.0], np.sort(np.asarray(times, dtype=float)))))
+    return sum(window_steps(rate * float(gap)) for gap in gaps if gap > 0)
 
 
 def absorption_curve(chain: BirthDeath, start: int, times: np.ndarray) -> PassageCurve:
