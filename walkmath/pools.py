@@ -27,22 +27,23 @@ from walkmath import checks
 from walkmath.continuous import BirthDeath, _rates, time_within, times_within
 from walkmath.cost import WORK_CAP, Work
 from walkmath.uniformization import (
+    STEP_UNITS,
     PassageCurve,
     _uniformized,
     absorption_curve,
     occupation,
     passage_steps,
+    sweep_units,
     window_steps,
 )
 
 POOL_METHODS = ("long_run", "mean_time", "shortage_curve", "shortage_time", "failed_law")
-# Work units per level of the long-run figures (logs, exponentials, running sums: about 20 numpy
-# passes) and of the mean passage time (a Python loop, about half a microsecond a level).
-LONG_RUN_UNITS = 20
+# Work units of the long-run figures, measured: about 0.25 ms of fixed cost (building the pool, its
+# checks, a few dozen numpy calls) and 0.3 microseconds a level (logs, exponentials, exact sums);
+# and of the mean passage time (a Python loop, about half a microsecond a level).
+LONG_RUN_FIXED = 1_250_000
+LONG_RUN_UNITS = 1_500
 MEAN_TIME_UNITS = 2_500
-# Work units per level of one uniformization step: the tridiagonal update and its share of the block
-# bookkeeping, about 2 nanoseconds a level (measured on 10,000 levels); each time weighted in adds one.
-STEP_UNITS = 10
 _KNOB = "shorten the mission, or model fewer units (the work grows with the failures and repairs it can hold)"
 
 
@@ -112,25 +113,29 @@ class RatePool:
     def cost(self, method: str = "long_run", *, times: Sequence[float] | float = 0.0) -> Work:
         """Priced work of ``method`` (``POOL_METHODS``) at the mission time(s) ``times``, before any of it.
 
-        Uniformization is priced as one period per step (a tridiagonal update of the levels it
-        carries, plus the weighting of every time asked for), steps counted exactly from the
-        Poisson window each sweep uses.
+        Uniformization is priced the way it runs (``uniformization.sweep_units``): tridiagonal
+        updates, or for a small chain the step ladder when that is cheaper, plus the weighting of
+        every time asked for; steps counted exactly from the Poisson window each sweep uses.
         """
         method = checks.choice("method", method, POOL_METHODS)
         levels = self.chain.top + 1
         if method == "long_run":
-            return Work(method, levels, 1, LONG_RUN_UNITS, knob="model fewer units")
+            return Work(method, levels, 1, LONG_RUN_UNITS, dense=LONG_RUN_FIXED, knob="model fewer units")
         if method == "mean_time":
             return Work(method, self.shortage_at + 1, 1, MEAN_TIME_UNITS, knob="model fewer units")
         moments = np.atleast_1d(np.asarray(times, dtype=float))
         if moments.size == 0 or not np.all(np.isfinite(moments)) or np.any(moments < 0):
             raise ValueError("times must be finite numbers at least 0")
         if method == "shortage_curve":
-            steps = passage_steps(self.shortage_chain.uniformization_rate, moments)
-            return Work(method, self.shortage_at + 1, steps, STEP_UNITS, knob=_KNOB)
-        steps = window_steps(self.chain.uniformization_rate * float(moments.max()))
-        jumps = STEP_UNITS + (2 if method == "shortage_time" else moments.size)
-        return Work(method, levels, steps, jumps, knob=_KNOB)
+            levels = self.shortage_at + 1
+            sweeps = passage_steps(self.shortage_chain.uniformization_rate, moments)
+            weighted = 0
+        else:
+            sweeps = [window_steps(self.chain.uniformization_rate * float(moments.max()))]
+            weighted = 2 if method == "shortage_time" else moments.size
+        # the whole price in ``dense``: the sweeps the cheaper way, as they run (uniformization.sweep_units)
+        units = sweep_units(levels, sweeps) + weighted * levels * sum(sweeps)
+        return Work(method, levels, sum(sweeps), STEP_UNITS, copies=0, dense=units, knob=_KNOB)
 
     # -- long run --------------------------------------------------------------------------------
 
@@ -155,10 +160,15 @@ class RatePool:
         self.cost("long_run").check()
         return self.chain.steady_state_split(self.shortage_at)[1]
 
+    def availability_split(self) -> tuple[float, float]:
+        """(``availability``, ``unavailability``) from one steady state."""
+        self.cost("long_run").check()
+        return self.chain.steady_state_split(self.shortage_at)
+
     def expected_failed(self) -> float:
         """Long-run mean number failed: a sum of non-negative terms."""
         law = self.long_run_law()
-        return math.fsum(law * self.failed)
+        return math.fsum((law * self.failed).tolist())
 
     def shortage_frequency(self) -> float:
         """Long-run shortages per unit time: the flow into the first shortage level,
@@ -220,6 +230,11 @@ class RatePool:
         """``no_shortage_probability`` at each of ``mission_times``: never rises as the time grows."""
         times = times_within("mission_times", mission_times, self.shortage_chain.longest_time)
         return self._passage(times, failed).not_reached
+
+    def mission_curves(self, mission_times: Sequence[float], failed: int = 0) -> PassageCurve:
+        """``shortage_curve`` (``.reached``) and ``no_shortage_curve`` (``.not_reached``) from one sweep."""
+        times = times_within("mission_times", mission_times, self.shortage_chain.longest_time)
+        return self._passage(times, failed)
 
     def shortage_time(self, mission_time: float, failed: int = 0) -> TimeSplit:
         """Expected time in shortage within [0, mission_time], and covered, from ``failed`` failed.

@@ -24,6 +24,7 @@ from walkmath import checks
 from walkmath.continuous import BirthDeath
 from walkmath.cost import Work
 from walkmath.pools import FailedLaw, RatePool, TimeSplit
+from walkmath.uniformization import PassageCurve
 
 # Largest number of units, of spares and of crews; largest failure or repair rate (per unit time).
 POOL_CAP = 100_000
@@ -100,17 +101,21 @@ class SparesPool:
         1 - availability then): relative accuracy about 1e-13 however small."""
         return self.rates.unavailability()
 
+    def availability_split(self) -> tuple[float, float]:
+        """(``availability``, ``unavailability``) from one steady state."""
+        return self.rates.availability_split()
+
     def expected_operating(self) -> float:
         """Long-run mean number of units operating (at most ``units``): a sum of non-negative terms."""
         law = self.rates.long_run_law()
-        return math.fsum(law * self.operating)
+        return math.fsum((law * self.operating).tolist())
 
     def expected_units_short(self) -> float:
         """Long-run mean number of units missing from the ``units`` needed, E[(failed - spares)+],
         summed from its own side (never units - expected operating)."""
         law = self.rates.long_run_law()
         short = self.rates.failed[self.spares + 1 :] - self.spares
-        return math.fsum(law[self.spares + 1 :] * short)
+        return math.fsum((law[self.spares + 1 :] * short).tolist())
 
     def shortage_frequency(self) -> float:
         """Long-run shortages per unit time (``RatePool.shortage_frequency``)."""
@@ -157,6 +162,10 @@ class SparesPool:
     def no_shortage_curve(self, mission_times: Sequence[float], failed: int = 0) -> np.ndarray:
         """``no_shortage_probability`` at each of ``mission_times``: never rises as the time grows."""
         return self.rates.no_shortage_curve(mission_times, failed)
+
+    def mission_curves(self, mission_times: Sequence[float], failed: int = 0) -> PassageCurve:
+        """Both mission curves from one sweep (``RatePool.mission_curves``)."""
+        return self.rates.mission_curves(mission_times, failed)
 
     def shortage_time(self, mission_time: float, failed: int = 0) -> TimeSplit:
         """Expected time short and covered within the mission (``RatePool.shortage_time``)."""

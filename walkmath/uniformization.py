@@ -16,6 +16,8 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
+from walkmath.cost import PERIOD_OVERHEAD
+
 if TYPE_CHECKING:
     from walkmath.continuous import BirthDeath
 
@@ -30,6 +32,13 @@ UNIFORMIZATION_CAP = 1e7
 # entries such a block may hold (32 MB).
 STEP_BLOCK = 256
 BLOCK_ENTRIES = 4_000_000
+# Chains of at most this many levels may take the step ladder (see ``_ladder``) when it is the cheaper way.
+LADDER_LEVELS = 64
+# Work units (walkmath.cost: about 0.2 ns each) of the sweeps' parts, measured on small chains: a
+# tridiagonal step per level, one multiply-add in a small dense product, one numpy call on small arrays.
+STEP_UNITS = 10
+FLOP_UNITS = 5
+CALL_UNITS = 10_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -91,12 +100,15 @@ def _poisson_window(mean: float) -> _PoissonWindow:
     return _PoissonWindow(mode - lower.size, weights / total, (lower_tail + upper_tail) / total)
 
 
-def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> tuple[np.ndarray, np.ndarray, int]:
+def _uniformized(
+    chain: BirthDeath, initial: np.ndarray, times: np.ndarray, ladder: np.ndarray | None = None
+) -> tuple[np.ndarray, np.ndarray, int]:
     """Laws at each of ``times`` (rows) from the law ``initial`` at time 0, dropped Poisson mass per
     time, steps taken.
 
-    The vectors v_n = p0 P^n are made STEP_BLOCK at a time by a tridiagonal update and weighted
-    into every time's result by one matrix product of non-negative terms.
+    The vectors v_n = p0 P^n are made STEP_BLOCK at a time (by tridiagonal updates, or from the
+    step ladder when it is the cheaper way or is given) and weighted into every time's result by
+    one matrix product of non-negative terms.
     """
     size = chain.birth.size
     rate = chain.uniformization_rate
@@ -106,7 +118,9 @@ def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> t
         return result, np.zeros(times.size), 0
     windows = [_poisson_window(rate * t) for t in times]
     steps = max(window.first + window.weights.size for window in windows)
-    for begin, block in _powers(chain, initial, steps):
+    if ladder is None and ladder_pays(size, [steps]):
+        ladder = _ladder(chain)
+    for begin, block in _powers(chain, initial, steps, ladder):
         rows = block.shape[0]
         weights = np.zeros((times.size, rows))
         for i, window in enumerate(windows):
@@ -120,20 +134,36 @@ def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> t
     return result, np.array([window.dropped for window in windows]), steps
 
 
-def _powers(chain: BirthDeath, initial: np.ndarray, steps: int):
-    """(n, block) with block[i] = v_{n + i} = p0 P^(n + i), for n = 0, STEP_BLOCK, ... below ``steps``.
-
-    Each block is a view of one buffer, overwritten by the next: use it before asking for more.
-    """
-    size = chain.birth.size
+def _transitions(chain: BirthDeath) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The tridiagonal P = I + Q / gamma as its diagonal, up and down chances."""
     rate = chain.uniformization_rate
-    # P = I + Q / gamma; the stay probability is exactly non-negative because gamma is the maximum
+    # the stay probability is exactly non-negative because gamma is the maximum
     stay = (rate - (chain.birth + chain.death)) / rate
     up_from = chain.birth[:-1] / rate  # level k -> k + 1, for k = 0..K-1
     down_from = chain.death[1:] / rate  # level k -> k - 1, for k = 1..K
-    block = np.empty((max(1, min(STEP_BLOCK, steps, BLOCK_ENTRIES // size)), size))
+    return stay, up_from, down_from
+
+
+def _powers(chain: BirthDeath, initial: np.ndarray, steps: int, ladder: np.ndarray | None = None):
+    """(n, block) with block[i] = v_{n + i} = p0 P^(n + i), for n = 0, STEP_BLOCK, ... below ``steps``.
+
+    With a ``ladder`` (``_ladder``) each block is one vector-matrix product from its first vector;
+    otherwise it is made by tridiagonal updates. Each block is a view of one buffer, overwritten by
+    the next: use it before asking for more.
+    """
+    size = chain.birth.size
+    stay, up_from, down_from = _transitions(chain)
     scratch = np.empty(size)
     current = np.array(initial, dtype=float)
+    if ladder is not None:
+        height = ladder.shape[1] // size
+        for begin in range(0, steps, height):
+            rows = min(height, steps - begin)
+            block = (current @ ladder[:, : rows * size]).reshape(rows, size)
+            yield begin, block
+            _step(block[rows - 1], current, stay, up_from, down_from, scratch)
+        return
+    block = np.empty((max(1, min(STEP_BLOCK, steps, BLOCK_ENTRIES // size)), size))
     for begin in range(0, steps, block.shape[0]):
         rows = min(block.shape[0], steps - begin)
         block[0] = current
@@ -141,6 +171,61 @@ def _powers(chain: BirthDeath, initial: np.ndarray, steps: int):
             _step(block[row - 1], block[row], stay, up_from, down_from, scratch)
         yield begin, block[:rows]
         _step(block[rows - 1], current, stay, up_from, down_from, scratch)
+
+
+def _ladder(chain: BirthDeath) -> np.ndarray:
+    """The step ladder of a small chain: ladder[i, r * n + j] = P^r[i, j] for r < STEP_BLOCK.
+
+    Built by doubling, P^(k + r) = P^r P^k (eight batched products for 256 powers); every entry is
+    a sum of products of non-negative numbers, so each keeps its relative accuracy (about
+    8 n ulps) however small, as the step-by-step vectors do. P^r is stochastic, so each row is
+    then divided by its sum: the doubling's rounding is shared by every row built from the same
+    square, and a ladder reused for hundreds of blocks would otherwise compound it into a leak of
+    mass (about 1e-12 over 1e5 steps); the division moves each entry by a few ulps only. A block of
+    256 steps is then one vector-matrix product, for the whole sweep or several
+    (``absorption_curve`` builds it once). Cost: STEP_BLOCK x n^3 multiply-adds once,
+    STEP_BLOCK x n^2 per block.
+    """
+    size = chain.birth.size
+    stay, up_from, down_from = _transitions(chain)
+    step = np.diag(stay) + np.diag(up_from, 1) + np.diag(down_from, -1)
+    powers = np.empty((STEP_BLOCK, size, size))
+    powers[0] = np.eye(size)
+    have, square = 1, step
+    while have < STEP_BLOCK:
+        take = min(have, STEP_BLOCK - have)
+        np.matmul(powers[:take], square, out=powers[have : have + take])
+        have += take
+        if have < STEP_BLOCK:
+            square = square @ square
+    powers /= powers.sum(axis=2, keepdims=True)
+    return np.ascontiguousarray(powers.transpose(1, 0, 2)).reshape(size, STEP_BLOCK * size)
+
+
+def direct_units(size: int, steps: list[int]) -> int:
+    """Work of sweeps of ``steps`` tridiagonal updates each (walkmath.cost units)."""
+    return sum(steps) * (size * STEP_UNITS + PERIOD_OVERHEAD)
+
+
+def ladder_units(size: int, steps: list[int]) -> int:
+    """Work of the same sweeps from one step ladder: built once, then a product per block of 256."""
+    build = 20 * CALL_UNITS + STEP_BLOCK * size**3 * FLOP_UNITS
+    blocks = sum(-(-count // STEP_BLOCK) for count in steps)
+    return build + blocks * (STEP_BLOCK * size**2 * FLOP_UNITS + PERIOD_OVERHEAD)
+
+
+def ladder_pays(size: int, steps: list[int]) -> bool:
+    """Whether the step ladder is the cheaper way for sweeps of ``steps`` steps on ``size`` levels."""
+    return size <= LADDER_LEVELS and ladder_units(size, steps) < direct_units(size, steps)
+
+
+def sweep_units(size: int, steps: list[int]) -> int:
+    """Work of sweeps of ``steps`` steps each on ``size`` levels, the cheaper way (the way they run)."""
+    return (
+        min(direct_units(size, steps), ladder_units(size, steps))
+        if size <= LADDER_LEVELS
+        else direct_units(size, steps)
+    )
 
 
 def occupation(chain: BirthDeath, start: int, time: float, inside: np.ndarray) -> tuple[float, float, int]:
@@ -165,7 +250,8 @@ def occupation(chain: BirthDeath, start: int, time: float, inside: np.ndarray) -
     beyond[window.first :] = np.append(tail[1:], 0.0)
     marks = np.asarray(inside, dtype=float)
     within, without = [], []
-    for begin, block in _powers(chain, initial, end):
+    ladder = _ladder(chain) if ladder_pays(chain.birth.size, [end]) else None
+    for begin, block in _powers(chain, initial, end, ladder):
         weights = beyond[begin : begin + block.shape[0]]
         within.append(float(weights @ (block @ marks)))
         without.append(float(weights @ (block @ (1.0 - marks))))
@@ -180,10 +266,10 @@ def window_steps(mean: float) -> int:
     return window.first + window.weights.size
 
 
-def passage_steps(rate: float, times: np.ndarray) -> int:
-    """Steps ``absorption_curve`` takes at most over ``times``: one window per gap between sorted times."""
+def passage_steps(rate: float, times: np.ndarray) -> list[int]:
+    """Steps of each sweep ``absorption_curve`` makes over ``times``: one per gap between sorted times."""
     gaps = np.diff(np.concatenate(([0.0], np.sort(np.asarray(times, dtype=float)))))
-    return sum(window_steps(rate * float(gap)) for gap in gaps if gap > 0)
+    return [window_steps(rate * float(gap)) for gap in gaps if gap > 0]
 
 
 def absorption_curve(chain: BirthDeath, start: int, times: np.ndarray) -> PassageCurve:
@@ -219,13 +305,15 @@ def absorption_curve(chain: BirthDeath, start: int, times: np.ndarray) -> Passag
         reached[:], not_reached[:] = 1.0, 0.0
         return PassageCurve(times, reached, not_reached, 0.0, 0)
     law = _point_law(chain.birth.size, start)  # given not absorbed; law[K] stays 0
+    sweeps = passage_steps(chain.uniformization_rate, times) if chain.uniformization_rate > 0 else []
+    ladder = _ladder(chain) if sweeps and ladder_pays(chain.birth.size, sweeps) else None
     reached_side, not_reached_side, on_reached_side = 0.0, 1.0, True
     dropped, steps, previous = 0.0, 0, 0.0
     for index in order:
         gap = float(times[index]) - previous
         previous = float(times[index])
         if gap > 0 and not_reached_side > 0:
-            moved, gone, taken = _uniformized(chain, law, np.array([gap]))
+            moved, gone, taken = _uniformized(chain, law, np.array([gap]), ladder)
             law, absorbed = moved[0], float(moved[0, -1])
             law[-1] = 0.0
             kept = math.fsum(law)

@@ -200,10 +200,12 @@ def test_each_figure_is_priced_before_it_runs():
     pool = RatePool([1.0] * 5, [2.0] * 5, shortage_at=3)
     one, many = pool.cost("shortage_curve", times=[10.0]), pool.cost("shortage_curve", times=np.linspace(0, 10, 11))
     assert one.levels == 4 and many.periods > one.periods  # a window per gap between the times
-    law = pool.cost("failed_law", times=[1.0, 10.0])
-    assert law.levels == 5 and law.jumps == 12 and law.periods == pool.cost("shortage_time", times=10.0).periods
-    # gamma t at the uniformization cap: millions of steps, refused before any work
-    fast = RatePool([1e6] * 5, [1e6] * 5, shortage_at=3)
+    law, time = pool.cost("failed_law", times=[1.0, 10.0]), pool.cost("shortage_time", times=10.0)
+    assert law.levels == 5 and law.periods == time.periods  # one sweep to the last time, steps counted alike
+    # a small chain's sweep runs from its step ladder when that is cheaper, and is priced that way
+    assert law.units < time.periods * (5 * 10 + 50_000)
+    # millions of steps on 200 levels (too many for the step ladder): refused before any work
+    fast = RatePool([1e6] * 200, [1e6] * 200, shortage_at=3)
     with pytest.raises(ComputeTooLarge, match="shorten the mission"):
         fast.shortage_time(4.0)
     with pytest.raises(ComputeTooLarge, match="shorten the mission"):
@@ -237,3 +239,11 @@ def test_bad_starts_and_times_name_the_input():
         pool.failed_law([1.0, math.inf])
     with pytest.raises(ValueError, match="method must be one of"):
         pool.cost("everything")
+
+
+def test_both_mission_curves_come_from_one_sweep():
+    pool = RatePool([1.0, 1.0, 0.5, 0.0], [0.0, 2.0, 2.0, 2.0], shortage_at=2)
+    times = [0.0, 0.5, 3.0, 9.0]
+    curves = pool.mission_curves(times, failed=1)
+    assert curves.reached.tolist() == pool.shortage_curve(times, failed=1).tolist()
+    assert curves.not_reached.tolist() == pool.no_shortage_curve(times, failed=1).tolist()

@@ -411,6 +411,6 @@ def test_rates_at_their_limits_keep_the_tiny_side():
     assert pool.expected_units_short() == pytest.approx(
         float(mpmath.fsum((k - 5) * w for k, w in enumerate(weights) if k > 5) / mpmath.fsum(weights)), rel=1e-12
     )
-    # the mission is priced before any work: millions of repairs within an hour are refused, naming the knob
+    # the mission is priced before any work: ten million repairs on 100,006 levels are refused, naming the knob
     with pytest.raises(wm.ComputeTooLarge, match="shorten the mission"):
-        pool.shortage_probability(1e-5)
+        pool.shortage_time(1e-5)

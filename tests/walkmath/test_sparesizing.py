@@ -99,21 +99,25 @@ def test_a_target_spares_cannot_reach_says_none():
     # hot spares fail while waiting, so with one slow crew more spares stop helping: availability
     # levels off near 80 % (each waiting spare adds failures the one crew must repair)
     assert smallest_spares(2, 0.1, 0.3, 1, 0.9, 0.1, most=200) is None
-    curve = spares_curve(2, 0.1, 0.3, 1, warm_failure_rate=0.1, availability_target=0.9, most=200)
-    assert curve.counts[-1] == 200 and curve.smallest is None and not curve.budget_reached
-    assert 0.19 < curve.unavailability[-1] < 0.2
+    curve = spares_curve(2, 0.1, 0.3, 1, warm_failure_rate=0.1, availability_target=0.9, shown=20, most=200)
+    assert curve.searched_to == 200 and curve.smallest is None and not curve.budget_reached
+    assert curve.counts.tolist() == list(range(21)) and 0.19 < curve.unavailability[-1] < 0.2
     # ... and a second crew would do it with 4 spares
     assert smallest_crews(2, 4, 0.1, 0.3, 0.9, 0.1) == 2
 
 
 def test_searches_stop_at_their_budget_and_say_so():
     arguments = {"warm_failure_rate": 0.0, "risk_target": 1e-12, "mission_time": 5000.0}
-    first = SparesPool(4, 0, 0.05, 0.5).cost("shortage_curve", times=5000.0).units
-    curve = spares_curve(4, 0.05, 0.5, 1, cap=4 * first, **arguments)
-    assert curve.budget_reached and curve.smallest is None and 2 <= curve.counts.size <= 4
-    assert curve.work <= 4 * first
+    prices = [
+        SparesPool(4, s, 0.05, 0.5).cost("long_run").units
+        + SparesPool(4, s, 0.05, 0.5).cost("shortage_curve", times=5000.0).units
+        for s in range(4)
+    ]
+    curve = spares_curve(4, 0.05, 0.5, 1, cap=sum(prices[:3]), shown=10, **arguments)
+    assert curve.budget_reached and curve.smallest is None and curve.counts.tolist() == [0, 1, 2]
+    assert curve.work == sum(prices[:3]) and curve.searched_to == 2
     with pytest.raises(ComputeTooLarge, match="stopped at .* spares without meeting the target"):
-        smallest_spares(4, 0.05, 0.5, 1, cap=4 * first, **{k: v for k, v in arguments.items()})
+        smallest_spares(4, 0.05, 0.5, 1, cap=sum(prices[:3]), **arguments)
     with pytest.raises(ComputeTooLarge, match="one spares candidate needs"):
         spares_curve(4, 0.05, 0.5, 1, cap=10, **arguments)
 
