@@ -12,6 +12,7 @@ from planner.kinds import get_kind
 class ScenarioKind(models.TextChoices):
     # One line per kind in planner/kinds/ (its key) and a migration: the database refuses unknown kinds.
     STOCK_PLAN = "stock_plan", "Stock plan"
+    SPARES_POOL = "spares_pool", "Spares pool"
 
 
 class Scenario(models.Model):

@@ -34,12 +34,34 @@ def small_params():
 
 
 @pytest.fixture
-def scenario(owner, small_params):
+def small_spares_params():
+    """A quick spares pool: 3 oven igniters in service, 1 cold spare, one crew, a 200-hour mission."""
+    from planner.kinds.spares_pool.params import SparesPoolParams
+
+    return SparesPoolParams(units=3, spares=1, failure=400.0, repair=24.0, mission=200.0, crews=1)
+
+
+# One small example per scenario kind (the fixture giving its parameters, a title, notes): the generic
+# view tests (tests/planner/test_views.py) run every URL for each kind with these.
+KIND_EXAMPLES = {
+    "stock_plan": ("small_params", "Rye loaf shelf", "Back shelf."),
+    "spares_pool": ("small_spares_params", "Oven igniters", "Bakehouse ovens."),
+}
+
+
+def example_scenario(request, owner, kind: str):
+    """The saved example of ``kind`` owned by ``owner``."""
     from planner.services import scenario_create
 
-    return scenario_create(
-        owner=owner, kind="stock_plan", title="Rye loaf shelf", params=small_params, notes="Back shelf."
-    )
+    assert kind in KIND_EXAMPLES, f"add a small example of the kind {kind!r} to KIND_EXAMPLES in tests/conftest.py"
+    fixture, title, notes = KIND_EXAMPLES[kind]
+    params = request.getfixturevalue(fixture)
+    return scenario_create(owner=owner, kind=kind, title=title, params=params, notes=notes)
+
+
+@pytest.fixture
+def scenario(request, owner):
+    return example_scenario(request, owner, "stock_plan")
 
 
 def pytest_configure(config):

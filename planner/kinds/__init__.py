@@ -47,6 +47,10 @@ class Kind:
     form_template: str = ""  # fields of the create/edit form
     headline_template: str = ""  # the figures above the charts (also sent with each what-if)
     whatif_template: str = ""  # the what-if inputs
+    caution_template: str = "planner/_cautions.html"  # the cautions above the results
+    preview_waiting: str = (
+        "Fill in the inputs to see the change law here."  # the preview's hint while inputs are missing
+    )
     tables: Mapping[str, str] = {}  # CSV slug -> what the table holds
 
     def params_from_json(self, data: dict) -> Any:

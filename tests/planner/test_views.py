@@ -11,12 +11,12 @@ import walkmath as wm
 from planner.formatting import probability
 from planner.kinds import all_kinds
 from planner.models import Scenario
-from tests.conftest import PASSWORD
+from tests.conftest import PASSWORD, example_scenario
 
 pytestmark = pytest.mark.django_db
 
 # (url name, extra kwargs, method) for every URL that shows or changes one scenario, whatever its kind.
-SCENARIO_VIEWS = [
+SHARED_VIEWS = [
     ("scenario_results", {}, "get"),
     ("scenario_edit", {}, "get"),
     ("scenario_edit", {}, "post"),
@@ -24,32 +24,38 @@ SCENARIO_VIEWS = [
     ("scenario_delete", {}, "post"),
     ("scenario_outlook_json", {}, "get"),
     ("scenario_variant_save", {}, "post"),
-] + [("scenario_csv", {"table": table}, "get") for kind in all_kinds() for table in kind.tables]
+]
+# ... for each kind, with its own CSV tables: (kind, url name, extra kwargs, method)
+SCENARIO_VIEWS = [
+    (kind.key, *view)
+    for kind in all_kinds()
+    for view in SHARED_VIEWS + [("scenario_csv", {"table": table}, "get") for table in kind.tables]
+]
+VIEW_ARGS = ("any_scenario", "name", "extra", "method")
 KIND_VIEWS = [(name, kind.key) for kind in all_kinds() for name in ("scenario_new_kind", "kind_preview")]
 
 
-@pytest.fixture(params=[kind.key for kind in all_kinds()])
-def any_scenario(request, scenario):
-    """One saved scenario per registered kind (each kind's own small example)."""
-    assert scenario.kind == request.param, "add a small example of the new kind to tests/conftest.py"
-    return scenario
+@pytest.fixture
+def any_scenario(request, owner):
+    """The saved small example of the kind in ``request.param`` (tests/conftest.py)."""
+    return example_scenario(request, owner, request.param)
 
 
 def url_for(name, scenario, extra):
     return reverse(name, kwargs={"pk": scenario.pk} | extra)
 
 
-@pytest.mark.parametrize(("name", "extra", "method"), SCENARIO_VIEWS)
+@pytest.mark.parametrize(VIEW_ARGS, SCENARIO_VIEWS, indirect=["any_scenario"])
 def test_outsider_gets_404_and_changes_nothing(client, any_scenario, outsider, name, extra, method):
     client.force_login(outsider)
     data = {"title": "Taken over", "start": "2"}
     response = getattr(client, method)(url_for(name, any_scenario, extra), data)
     assert response.status_code == 404
-    assert Scenario.objects.get(pk=any_scenario.pk).title == "Rye loaf shelf"
+    assert Scenario.objects.get(pk=any_scenario.pk).title == any_scenario.title
     assert Scenario.objects.count() == 1
 
 
-@pytest.mark.parametrize(("name", "extra", "method"), SCENARIO_VIEWS)
+@pytest.mark.parametrize(VIEW_ARGS, SCENARIO_VIEWS, indirect=["any_scenario"])
 def test_anonymous_is_sent_to_sign_in(client, any_scenario, name, extra, method):
     response = getattr(client, method)(url_for(name, any_scenario, extra))
     assert response.status_code == 302
@@ -57,10 +63,10 @@ def test_anonymous_is_sent_to_sign_in(client, any_scenario, name, extra, method)
     assert Scenario.objects.count() == 1
 
 
-@pytest.mark.parametrize(("name", "extra", "method"), SCENARIO_VIEWS)
+@pytest.mark.parametrize(VIEW_ARGS, SCENARIO_VIEWS, indirect=["any_scenario"])
 def test_owner_is_answered(client, any_scenario, name, extra, method):
     client.force_login(any_scenario.owner)
-    data = {"title": "Rye loaf shelf, copy"} if name == "scenario_variant_save" else {}
+    data = {"title": f"{any_scenario.title}, copy"} if name == "scenario_variant_save" else {}
     response = getattr(client, method)(url_for(name, any_scenario, extra), data)
     assert response.status_code in (200, 302)
 
@@ -106,11 +112,13 @@ def test_list_shows_only_own_scenarios_with_their_stored_headline(client, scenar
     assert probability(scenario.headline_risk) in page
 
 
-def test_new_scenario_goes_to_the_only_kind(client, owner):
+def test_new_scenario_offers_every_kind(client, owner):
     client.force_login(owner)
     response = client.get(reverse("scenario_new"))
-    assert response.status_code == 302
-    assert response["Location"] == reverse("scenario_new_kind", kwargs={"kind": "stock_plan"})
+    assert response.status_code == 200
+    page = response.content.decode()
+    for kind in all_kinds():
+        assert reverse("scenario_new_kind", kwargs={"kind": kind.key}) in page and kind.label in page
 
 
 def test_owner_sees_results_with_figures_text_alternatives_and_cautions(client, scenario):
