@@ -33,7 +33,7 @@ def test_prints_working_sign_in_details_and_is_idempotent():
 
 def test_demo_scenarios_show_different_shapes():
     load()
-    results = {s.title: scenario_reading(scenario=s).result for s in Scenario.objects.all()}
+    results = {s.title: scenario_reading(scenario=s).result for s in Scenario.objects.filter(kind="stock_plan")}
     drift = [r for r in results.values() if r.params.high is None and r.cycle_mean < 0]
     bound = [r for r in results.values() if r.params.high is not None and r.spilled_units and r.overflow_risk > 0.1]
     weekly = [r for r in results.values() if r.params.delivery_every == 7 and len(r.laws) == 7]
@@ -51,3 +51,12 @@ def test_demo_text_stays_in_the_fictional_island():
 def test_every_demo_plan_has_its_headline_stored():
     load()
     assert not Scenario.objects.filter(headline_risk__isnull=True).exists()
+
+
+def test_demo_spares_pools_show_each_standby():
+    load()
+    results = [scenario_reading(scenario=s).result for s in Scenario.objects.filter(kind="spares_pool")]
+    assert sorted(r.params.standby for r in results) == ["cold", "hot", "warm"]
+    # each sizing question is answered in the request, and at least one pool needs more than it holds
+    assert all(r.spares_needed is not None and not r.left_out for r in results)
+    assert any(r.spares_needed > r.params.spares for r in results)

@@ -37,14 +37,18 @@ def test_workload_has_each_results_page_and_what_ifs_inside_the_band():
     assert kinds.count("what-if JSON") >= 2 * len(scenarios)
     for scenario in scenarios:
         saved = scenario.parameters  # the stored plan (works for every kind's parameter classes)
-        starts = [
+        knob = "start" if "start" in saved else "spares"
+        values = [
             int(m.group(1))
             for _, title, path in jobs
-            if title == scenario.title and (m := re.search(r"/outlook\.json\?start=(\d+)", path))
+            if title == scenario.title and (m := re.search(rf"/outlook\.json\?{knob}=(\d+)", path))
         ]
-        top = saved["high"] if saved["high"] is not None else saved["start"] + 1
-        assert starts and all(saved["low"] <= start <= top for start in starts)
-        assert saved["start"] in starts
+        if knob == "start":
+            top = saved["high"] if saved["high"] is not None else saved["start"] + 1
+            assert values and all(saved["low"] <= start <= top for start in values)
+        else:  # a spares pool: one spare fewer (never below none), as saved, one more
+            assert values == sorted({max(0, saved["spares"] - 1), saved["spares"], saved["spares"] + 1})
+        assert saved[knob] in values
 
 
 @pytest.mark.django_db(transaction=True)

@@ -18,6 +18,7 @@ from django.urls import reverse
 
 from planner import reading
 from planner.kinds import get_kind
+from planner.management.commands.loadtest import whatif_queries
 from planner.models import Scenario
 
 # Plan shapes near the cap's worst case: wide daily laws on a narrow store, many narrow periods, a weekly cycle.
@@ -52,9 +53,8 @@ class Command(BaseCommand):
         client = Client(HTTP_HOST="localhost")
         client.force_login(user)
         for scenario in Scenario.objects.filter(owner=user).order_by("pk"):
-            params = scenario.params
             url = reverse("scenario_outlook_json", args=[scenario.pk])
-            query = {"start": max(params.low, params.start - 1), "horizon": params.horizon}
+            query = (whatif_queries(scenario.parameters) or [{}])[0]  # one level lower (or the saved pool)
             client.get(url, query)  # warm caches (imports)
             wall, server = [], []
             for _ in range(repeat):

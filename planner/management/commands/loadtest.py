@@ -103,20 +103,29 @@ class Session:
             raise CommandError(f"could not sign in as {username!r} (status {status}); run manage.py load_demo first")
 
 
+def whatif_queries(saved: dict) -> list[dict]:
+    """Three what-ifs on a saved scenario's main level, one lower, as saved and one higher, kept in
+    range: a plan's start stock (inside its band) or a pool's spares; none for other kinds."""
+    if "start" in saved:
+        start, low, high = saved["start"], saved.get("low", 0), saved.get("high")
+        top = high if high is not None else start + 1
+        extra = {"horizon": saved["horizon"]} if "horizon" in saved else {}
+        return [{"start": value} | extra for value in sorted({max(low, start - 1), start, min(top, start + 1)})]
+    if "spares" in saved:
+        spares = saved["spares"]
+        return [{"spares": value} for value in sorted({max(0, spares - 1), spares, spares + 1})]
+    return []
+
+
 def workload(scenarios) -> list[tuple[str, str, str]]:
-    """(kind, scenario title, path) the clients cycle through: each results page, and for plans with a
-    start level three what-ifs (start one lower, as saved, one higher, kept inside the band)."""
+    """(kind, scenario title, path) the clients cycle through: each results page, and three what-ifs
+    on each scenario's main level (``whatif_queries``)."""
     jobs = []
     for scenario in scenarios:
         saved = scenario.parameters  # the stored JSON: read the same way whatever the kind's classes are
         jobs.append(("results page", scenario.title, reverse("scenario_results", args=[scenario.pk])))
-        if "start" not in saved:
-            continue
-        start, low, high = saved["start"], saved.get("low", 0), saved.get("high")
-        top = high if high is not None else start + 1
-        for value in sorted({max(low, start - 1), start, min(top, start + 1)}):
-            query = urlencode({"start": value} | ({"horizon": saved["horizon"]} if "horizon" in saved else {}))
-            path = f"{reverse('scenario_outlook_json', args=[scenario.pk])}?{query}"
+        for query in whatif_queries(saved):
+            path = f"{reverse('scenario_outlook_json', args=[scenario.pk])}?{urlencode(query)}"
             jobs.append(("what-if JSON", scenario.title, path))
     return jobs
 
