@@ -168,7 +168,7 @@ class RatePool:
     def expected_failed(self) -> float:
         """Long-run mean number failed: a sum of non-negative terms."""
         law = self.long_run_law()
-        return math.fsum((law * self.failed).tolist())
+        return min(float(self.chain.top), math.fsum((law * self.failed).tolist()))  # held at its bound (see there)
 
     def shortage_frequency(self) -> float:
         """Long-run shortages per unit time: the flow into the first shortage level,

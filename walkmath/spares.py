@@ -108,14 +108,15 @@ class SparesPool:
     def expected_operating(self) -> float:
         """Long-run mean number of units operating (at most ``units``): a sum of non-negative terms."""
         law = self.rates.long_run_law()
-        return math.fsum((law * self.operating).tolist())
+        # the law sums to 1 within an ulp or two, so the mean is held at its bound
+        return min(float(self.units), math.fsum((law * self.operating).tolist()))
 
     def expected_units_short(self) -> float:
         """Long-run mean number of units missing from the ``units`` needed, E[(failed - spares)+],
         summed from its own side (never units - expected operating)."""
         law = self.rates.long_run_law()
         short = self.rates.failed[self.spares + 1 :] - self.spares
-        return math.fsum((law[self.spares + 1 :] * short).tolist())
+        return min(float(self.units), math.fsum((law[self.spares + 1 :] * short).tolist()))
 
     def shortage_frequency(self) -> float:
         """Long-run shortages per unit time (``RatePool.shortage_frequency``)."""
