@@ -13,6 +13,7 @@ class ScenarioKind(models.TextChoices):
     # One line per kind in planner/kinds/ (its key) and a migration: the database refuses unknown kinds.
     STOCK_PLAN = "stock_plan", "Stock plan"
     REORDER_PLAN = "reorder_plan", "Reorder plan"
+    SPARES_POOL = "spares_pool", "Spares pool"
 
 
 class Scenario(models.Model):

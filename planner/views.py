@@ -233,7 +233,7 @@ def kind_preview(request, kind: str):
     if not form.is_valid():
         errors = form.errors.as_data()
         if all(error.code == "required" for field in errors.values() for error in field):
-            return JsonResponse({"ready": False, "message": "Fill in the inputs to see the preview here."})
+            return JsonResponse({"ready": False, "message": kind.preview_waiting})
         return JsonResponse({"errors": {name: list(errs) for name, errs in form.errors.items()}}, status=400)
     try:
         return JsonResponse(reading.law_preview(kind=kind, form=form))

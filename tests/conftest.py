@@ -31,6 +31,11 @@ def small_params():
     return KIND_EXAMPLES["stock_plan"]()
 
 
+@pytest.fixture
+def small_spares_params():
+    return spares_example()
+
+
 def small_reorder_params():
     """A quick reorder plan: Poisson demand 0.8 crates a day, lead time 3 days, 95 % cycle service level."""
     from planner.count_law import CountLaw
@@ -41,12 +46,20 @@ def small_reorder_params():
     )
 
 
+def spares_example():
+    """A quick spares pool: 3 oven igniters in service, 1 cold spare, one crew, a 200-hour mission."""
+    from planner.kinds.spares_pool.params import SparesPoolParams
+
+    return SparesPoolParams(units=3, spares=1, failure=400.0, repair=24.0, mission=200.0, crews=1)
+
+
 # One small example per scenario kind (its key -> its parameters): the generic view tests run every URL on each.
 KIND_EXAMPLES = {
     "stock_plan": lambda: StockPlanParams(
         start=4, horizon=12, low=0, high=8, below="lost", above="spill", step_method="nearest", up=0.3, down=0.4
     ),
     "reorder_plan": small_reorder_params,
+    "spares_pool": spares_example,
 }
 
 

@@ -24,6 +24,7 @@ from walkmath.longrun import LongOutlook
 from walkmath.meantime import MeanTime
 from walkmath.passage import first_stockout_times
 from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
+from walkmath.pools import FailedLaw, RatePool, TimeSplit
 from walkmath.posterior import ChangePosterior, RatePosterior, SpreadPosterior, law_posterior
 from walkmath.profile import WeekdayProfile, weekday_profile
 from walkmath.reviewcost import best_policy_work, order_up_to_work
@@ -42,6 +43,7 @@ from walkmath.service import (
 from walkmath.sizing import CapacityRisk
 from walkmath.skellam import continuous_level_distribution
 from walkmath.spares import SparesPool
+from walkmath.sparesizing import PoolSizing, crews_curve, smallest_crews, smallest_spares, spares_curve
 from walkmath.steplaw import StepLaw
 from walkmath.uncertainty import RiskBand, risk_band, risk_band_work
 
@@ -55,6 +57,7 @@ __all__ = [
     "ComputeTooLarge",
     "CountFit",
     "Estimate",
+    "FailedLaw",
     "FrequencyRow",
     "GoodnessOfFit",
     "LevelDistribution",
@@ -66,7 +69,9 @@ __all__ = [
     "PeriodicReview",
     "PolicyChoice",
     "PolicyMeasures",
+    "PoolSizing",
     "PooledCell",
+    "RatePool",
     "RatePosterior",
     "Recommendation",
     "ReorderPointPlan",
@@ -76,6 +81,7 @@ __all__ = [
     "StartRisk",
     "StepLaw",
     "StockoutRisk",
+    "TimeSplit",
     "TransientLaw",
     "WORK_CAP",
     "WeekdayProfile",
@@ -85,6 +91,7 @@ __all__ = [
     "brownian_first_passage",
     "checks",
     "continuous_level_distribution",
+    "crews_curve",
     "empirical_change_law",
     "expected_duration",
     "expected_shortage",
@@ -111,8 +118,11 @@ __all__ = [
     "risk_band_work",
     "ruin_probability",
     "safety_stock",
+    "smallest_crews",
     "smallest_order_up_to",
     "smallest_reorder_level",
+    "smallest_spares",
+    "spares_curve",
     "unfilled_share",
     "weekday_profile",
     "wilson_interval",

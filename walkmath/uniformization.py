@@ -9,11 +9,14 @@ given no passage yet from one time to the next, so they are monotone by construc
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
+
+from walkmath.cost import PERIOD_OVERHEAD
 
 if TYPE_CHECKING:
     from walkmath.continuous import BirthDeath
@@ -29,6 +32,13 @@ UNIFORMIZATION_CAP = 1e7
 # entries such a block may hold (32 MB).
 STEP_BLOCK = 256
 BLOCK_ENTRIES = 4_000_000
+# Chains of at most this many levels may take the step ladder (see ``_ladder``) when it is the cheaper way.
+LADDER_LEVELS = 64
+# Work units (walkmath.cost: about 0.2 ns each) of the sweeps' parts, measured on small chains: a
+# tridiagonal step per level, one multiply-add in a small dense product, one numpy call on small arrays.
+STEP_UNITS = 10
+FLOP_UNITS = 5
+CALL_UNITS = 10_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -86,16 +96,21 @@ def _poisson_window(mean: float) -> _PoissonWindow:
         lower = lower[:cut]
 
     weights = np.concatenate((lower[::-1], [1.0], upper))
-    total = math.fsum(weights)
+    # numpy's pairwise sum of these positive weights: relative error below 1e-15 for any window (an
+    # exact sum cost milliseconds a window on long missions), the same factor for every weight
+    total = float(weights.sum())
     return _PoissonWindow(mode - lower.size, weights / total, (lower_tail + upper_tail) / total)
 
 
-def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> tuple[np.ndarray, np.ndarray, int]:
+def _uniformized(
+    chain: BirthDeath, initial: np.ndarray, times: np.ndarray, ladder: np.ndarray | None = None
+) -> tuple[np.ndarray, np.ndarray, int]:
     """Laws at each of ``times`` (rows) from the law ``initial`` at time 0, dropped Poisson mass per
     time, steps taken.
 
-    The vectors v_n = p0 P^n are made STEP_BLOCK at a time by a tridiagonal update and weighted
-    into every time's result by one matrix product of non-negative terms.
+    The vectors v_n = p0 P^n are made STEP_BLOCK at a time (by tridiagonal updates, or from the
+    step ladder when it is the cheaper way or is given) and weighted into every time's result by
+    one matrix product of non-negative terms.
     """
     size = chain.birth.size
     rate = chain.uniformization_rate
@@ -105,18 +120,10 @@ def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> t
         return result, np.zeros(times.size), 0
     windows = [_poisson_window(rate * t) for t in times]
     steps = max(window.first + window.weights.size for window in windows)
-    # P = I + Q / gamma; the stay probability is exactly non-negative because gamma is the maximum
-    stay = (rate - (chain.birth + chain.death)) / rate
-    up_from = chain.birth[:-1] / rate  # level k -> k + 1, for k = 0..K-1
-    down_from = chain.death[1:] / rate  # level k -> k - 1, for k = 1..K
-    block = np.empty((max(1, min(STEP_BLOCK, steps, BLOCK_ENTRIES // size)), size))
-    scratch = np.empty(size)
-    current = np.array(initial, dtype=float)
-    for begin in range(0, steps, block.shape[0]):
-        rows = min(block.shape[0], steps - begin)
-        block[0] = current
-        for row in range(1, rows):
-            _step(block[row - 1], block[row], stay, up_from, down_from, scratch)
+    if ladder is None and ladder_pays(size, [steps]):
+        ladder = _ladder(chain)
+    for begin, block in _powers(chain, initial, steps, ladder):
+        rows = block.shape[0]
         weights = np.zeros((times.size, rows))
         for i, window in enumerate(windows):
             low = max(begin, window.first)
@@ -124,10 +131,147 @@ def _uniformized(chain: BirthDeath, initial: np.ndarray, times: np.ndarray) -> t
             if low < high:
                 weights[i, low - begin : high - begin] = window.weights[low - window.first : high - window.first]
         if weights.any():
-            result += weights @ block[:rows]
-        _step(block[rows - 1], current, stay, up_from, down_from, scratch)
+            result += weights @ block
     np.minimum(result, 1.0, out=result)  # a certain level may sum to 1 + 1 ulp
     return result, np.array([window.dropped for window in windows]), steps
+
+
+def _transitions(chain: BirthDeath) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """The tridiagonal P = I + Q / gamma as its diagonal, up and down chances."""
+    rate = chain.uniformization_rate
+    # the stay probability is exactly non-negative because gamma is the maximum
+    stay = (rate - (chain.birth + chain.death)) / rate
+    up_from = chain.birth[:-1] / rate  # level k -> k + 1, for k = 0..K-1
+    down_from = chain.death[1:] / rate  # level k -> k - 1, for k = 1..K
+    return stay, up_from, down_from
+
+
+def _powers(chain: BirthDeath, initial: np.ndarray, steps: int, ladder: np.ndarray | None = None):
+    """(n, block) with block[i] = v_{n + i} = p0 P^(n + i), for n = 0, STEP_BLOCK, ... below ``steps``.
+
+    With a ``ladder`` (``_ladder``) each block is one vector-matrix product from its first vector;
+    otherwise it is made by tridiagonal updates. Each block is a view of one buffer, overwritten by
+    the next: use it before asking for more.
+    """
+    size = chain.birth.size
+    stay, up_from, down_from = _transitions(chain)
+    scratch = np.empty(size)
+    current = np.array(initial, dtype=float)
+    if ladder is not None:
+        height = ladder.shape[1] // size
+        for begin in range(0, steps, height):
+            rows = min(height, steps - begin)
+            block = (current @ ladder[:, : rows * size]).reshape(rows, size)
+            yield begin, block
+            _step(block[rows - 1], current, stay, up_from, down_from, scratch)
+        return
+    block = np.empty((max(1, min(STEP_BLOCK, steps, BLOCK_ENTRIES // size)), size))
+    for begin in range(0, steps, block.shape[0]):
+        rows = min(block.shape[0], steps - begin)
+        block[0] = current
+        for row in range(1, rows):
+            _step(block[row - 1], block[row], stay, up_from, down_from, scratch)
+        yield begin, block[:rows]
+        _step(block[rows - 1], current, stay, up_from, down_from, scratch)
+
+
+def _ladder(chain: BirthDeath) -> np.ndarray:
+    """The step ladder of a small chain: ladder[i, r * n + j] = P^r[i, j] for r < STEP_BLOCK.
+
+    Built by doubling, P^(k + r) = P^r P^k (eight batched products for 256 powers); every entry is
+    a sum of products of non-negative numbers, so each keeps its relative accuracy (about
+    8 n ulps) however small, as the step-by-step vectors do. P^r is stochastic, so each row is
+    then divided by its sum: the doubling's rounding is shared by every row built from the same
+    square, and a ladder reused for hundreds of blocks would otherwise compound it into a leak of
+    mass (about 1e-12 over 1e5 steps); the division moves each entry by a few ulps only. A block of
+    256 steps is then one vector-matrix product, for the whole sweep or several
+    (``absorption_curve`` builds it once). Cost: STEP_BLOCK x n^3 multiply-adds once,
+    STEP_BLOCK x n^2 per block.
+    """
+    size = chain.birth.size
+    stay, up_from, down_from = _transitions(chain)
+    step = np.diag(stay) + np.diag(up_from, 1) + np.diag(down_from, -1)
+    powers = np.empty((STEP_BLOCK, size, size))
+    powers[0] = np.eye(size)
+    have, square = 1, step
+    while have < STEP_BLOCK:
+        take = min(have, STEP_BLOCK - have)
+        np.matmul(powers[:take], square, out=powers[have : have + take])
+        have += take
+        if have < STEP_BLOCK:
+            square = square @ square
+    powers /= powers.sum(axis=2, keepdims=True)
+    return np.ascontiguousarray(powers.transpose(1, 0, 2)).reshape(size, STEP_BLOCK * size)
+
+
+def direct_units(size: int, steps: list[int]) -> int:
+    """Work of sweeps of ``steps`` tridiagonal updates each (walkmath.cost units)."""
+    return sum(steps) * (size * STEP_UNITS + PERIOD_OVERHEAD)
+
+
+def ladder_units(size: int, steps: list[int]) -> int:
+    """Work of the same sweeps from one step ladder: built once, then a product per block of 256."""
+    build = 20 * CALL_UNITS + STEP_BLOCK * size**3 * FLOP_UNITS
+    blocks = sum(-(-count // STEP_BLOCK) for count in steps)
+    return build + blocks * (STEP_BLOCK * size**2 * FLOP_UNITS + PERIOD_OVERHEAD)
+
+
+def ladder_pays(size: int, steps: list[int]) -> bool:
+    """Whether the step ladder is the cheaper way for sweeps of ``steps`` steps on ``size`` levels."""
+    return size <= LADDER_LEVELS and ladder_units(size, steps) < direct_units(size, steps)
+
+
+def sweep_units(size: int, steps: list[int]) -> int:
+    """Work of sweeps of ``steps`` steps each on ``size`` levels, the cheaper way (the way they run)."""
+    return (
+        min(direct_units(size, steps), ladder_units(size, steps))
+        if size <= LADDER_LEVELS
+        else direct_units(size, steps)
+    )
+
+
+def occupation(chain: BirthDeath, start: int, time: float, inside: np.ndarray) -> tuple[float, float, int]:
+    """Expected time spent in the levels marked ``inside`` and outside them during [0, ``time``] from
+    level ``start``, and the steps taken.
+
+    Uniformization integrated term by term: the integral over [0, t] of p(s) is
+    (1 / gamma) sum_n P(N > n) p0 P^n with N ~ Poisson(gamma t) (Reibman and Trivedi, "Transient
+    analysis of cumulative measures of Markov model behavior", Stochastic Models 5(4), 1989). Each
+    side is a sum of non-negative terms, so a small one keeps its relative accuracy; the two add up
+    to ``time`` to rounding. Cost: as ``BirthDeath.transient`` at ``time``.
+    """
+    rate = chain.uniformization_rate
+    initial = _point_law(chain.birth.size, start)
+    if rate == 0 or time == 0:
+        return (time, 0.0, 0) if inside[start] else (0.0, time, 0)
+    window = _poisson_window(rate * time)
+    end = window.first + window.weights.size
+    # beyond[n] = P(N > n) for n = 0..end-1: 1 below the window, then the window's own tail sums
+    beyond = np.ones(end)
+    tail = np.cumsum(window.weights[::-1])[::-1]  # tail[i] = P(N >= first + i), non-negative sums
+    beyond[window.first :] = np.append(tail[1:], 0.0)
+    marks = np.asarray(inside, dtype=float)
+    within, without = [], []
+    ladder = _ladder(chain) if ladder_pays(chain.birth.size, [end]) else None
+    for begin, block in _powers(chain, initial, end, ladder):
+        weights = beyond[begin : begin + block.shape[0]]
+        within.append(float(weights @ (block @ marks)))
+        without.append(float(weights @ (block @ (1.0 - marks))))
+    steps = end
+    return math.fsum(within) / rate, math.fsum(without) / rate, steps
+
+
+@functools.lru_cache(maxsize=1024)
+def window_steps(mean: float) -> int:
+    """Uniformization steps one sweep to Poisson mean ``mean`` (= gamma t) takes: the window's end."""
+    window = _poisson_window(mean)
+    return window.first + window.weights.size
+
+
+def passage_steps(rate: float, times: np.ndarray) -> list[int]:
+    """Steps of each sweep ``absorption_curve`` makes over ``times``: one per gap between sorted times."""
+    gaps = np.diff(np.concatenate(([0.0], np.sort(np.asarray(times, dtype=float)))))
+    return [window_steps(rate * float(gap)) for gap in gaps if gap > 0]
 
 
 def absorption_curve(chain: BirthDeath, start: int, times: np.ndarray) -> PassageCurve:
@@ -163,16 +307,18 @@ def absorption_curve(chain: BirthDeath, start: int, times: np.ndarray) -> Passag
         reached[:], not_reached[:] = 1.0, 0.0
         return PassageCurve(times, reached, not_reached, 0.0, 0)
     law = _point_law(chain.birth.size, start)  # given not absorbed; law[K] stays 0
+    sweeps = passage_steps(chain.uniformization_rate, times) if chain.uniformization_rate > 0 else []
+    ladder = _ladder(chain) if sweeps and ladder_pays(chain.birth.size, sweeps) else None
     reached_side, not_reached_side, on_reached_side = 0.0, 1.0, True
     dropped, steps, previous = 0.0, 0, 0.0
     for index in order:
         gap = float(times[index]) - previous
         previous = float(times[index])
         if gap > 0 and not_reached_side > 0:
-            moved, gone, taken = _uniformized(chain, law, np.array([gap]))
+            moved, gone, taken = _uniformized(chain, law, np.array([gap]), ladder)
             law, absorbed = moved[0], float(moved[0, -1])
             law[-1] = 0.0
-            kept = math.fsum(law)
+            kept = math.fsum(law.tolist())
             total = kept + absorbed
             reached_side += not_reached_side * (absorbed / total)
             not_reached_side *= kept / total

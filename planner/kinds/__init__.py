@@ -47,6 +47,8 @@ class Kind:
     form_template: str = ""  # fields of the create/edit form
     headline_template: str = ""  # the figures above the charts (also sent with each what-if)
     whatif_template: str = ""  # the what-if inputs
+    caution_template: str = "planner/_cautions.html"  # the cautions above the results
+    preview_waiting: str = "Fill in the inputs to see the preview here."  # the preview's hint while inputs are missing
     tables: Mapping[str, str] = {}  # CSV slug -> what the table holds
     check_template: str = ""  # the cross-check panel's table ("" when the kind has no cross-check)
     check_tables: Mapping[str, str] = {}  # CSV slug -> what the cross-check's table holds

@@ -15,7 +15,7 @@ def test_bench_reports_every_demo_scenario():
     out = StringIO()
     call_command("bench_whatif", repeat=1, stdout=out)
     lines = out.getvalue().splitlines()
-    assert len(lines) == Scenario.objects.count() >= 5  # stock plans and reorder plans
+    assert len(lines) == Scenario.objects.count() >= 8  # stock plans, reorder plans and spares pools
     assert all("server median" in line and "(status 200)" in line for line in lines)
 
 

@@ -62,3 +62,12 @@ def test_demo_reorder_plans_show_the_normal_rule_both_ways():
     assert [(r.reorder_point, r.normal_reorder_point) for r in slow if r.over_protects] == [(1, 2)]
     assert any(r.params.review_period and r.policy is not None for r in results)  # a counted store, exact
     assert all(not r.left_out for r in results)
+
+
+def test_demo_spares_pools_show_each_standby():
+    load()
+    results = [scenario_reading(scenario=s).result for s in Scenario.objects.filter(kind="spares_pool")]
+    assert sorted(r.params.standby for r in results) == ["cold", "hot", "warm"]
+    # each sizing question is answered in the request, and at least one pool needs more than it holds
+    assert all(r.spares_needed is not None and not r.left_out for r in results)
+    assert any(r.spares_needed > r.params.spares for r in results)

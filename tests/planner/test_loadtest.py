@@ -38,11 +38,13 @@ def test_workload_has_each_results_page_and_what_ifs_inside_the_band():
     for scenario in scenarios:
         saved = scenario.parameters  # the stored plan
         # What each kind samples, within its bounds: a stock plan's start inside floor and capacity; a
-        # reorder plan's lead time at least 1 day (the demo stock is watched all the time).
-        if scenario.kind == "stock_plan":
-            knob, low, high = "start", saved["low"], saved["high"]
-        else:
-            knob, low, high = "lead_time", 1, None
+        # reorder plan's lead time at least 1 day (the demo stock is watched all the time); a spares pool's
+        # spares, never below none.
+        knob, low, high = {
+            "stock_plan": ("start", saved.get("low"), saved.get("high")),
+            "reorder_plan": ("lead_time", 1, None),
+            "spares_pool": ("spares", 0, None),
+        }[scenario.kind]
         values = [
             int(m.group(1))
             for _, title, path in jobs

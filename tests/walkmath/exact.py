@@ -203,3 +203,20 @@ def periodic_review_risk(pmf, s, big_s, lead_time, start, horizon):
         states = nxt
         risk.append(stopped)
     return risk
+
+
+def spares_pool_law(units, spares, failure_rate, repair_rate, crews, warm_failure_rate=0):
+    """Long-run law of the number failed in a spares pool, in exact Fractions: the rates spelled out from
+    the design notes (section 3) and the birth–death product form pi_k ∝ prod b_i / d_(i+1)
+    (Kleinrock, Queueing Systems vol. 1, §3.1)."""
+    from fractions import Fraction
+
+    failure, repair, warm = Fraction(failure_rate), Fraction(repair_rate), Fraction(warm_failure_rate)
+    size = units + spares + 1
+    weights = [Fraction(1)]
+    for failed in range(1, size):
+        before = failed - 1
+        up = failure * min(units, units + spares - before) + warm * max(0, spares - before)
+        weights.append(weights[-1] * up / (repair * min(failed, crews)))
+    total = sum(weights)
+    return [weight / total for weight in weights]

@@ -1,5 +1,6 @@
 // Scenario form: show the inputs the chosen laws need and preview the kind's law as it is typed.
 // The form's data-preview-state says where the preview is: busy, shown, waiting (inputs missing) or error.
+// A kind's preview may name its own x axis (x_title) and hover label (x_name).
 (function () {
   "use strict";
   var form = document.getElementById("scenario-form");
@@ -73,9 +74,10 @@
           " cycle the mean change is " + law.cycle_mean.toFixed(3) + " units per " + period +
           " (first " + period + " shown)." : "."));
         Plotly.react(chart, [{ type: "bar", x: law.steps, y: law.probs, marker: { color: "#2b7a84" },
-          hovertemplate: "%{x}: %{y:.4g}<extra></extra>" }], {
+          hovertemplate: (law.x_name || "change") + " %{x}: %{y:.4g}<extra></extra>" }], {
           margin: { l: 44, r: 8, t: 8, b: 36 }, height: 200, paper_bgcolor: "rgba(0,0,0,0)", plot_bgcolor: "#fffdf8",
-          xaxis: { title: { text: law.x_title || "change in one " + period + " (units)" }, dtick: law.steps.length > 25 ? undefined : 1 },
+          xaxis: { title: { text: law.x_title || ("change in one " + period + " (units)") },
+            dtick: law.steps.length > 25 ? undefined : 1 },
           yaxis: { title: { text: "probability" }, rangemode: "tozero" },
           font: { size: 11, color: "#24303f" }
         }, Object.assign(PlannerCharts.config("step-law"), { displayModeBar: false }));
