@@ -15,6 +15,7 @@ from planner.kinds import Kind, Part, register
 from planner.kinds.stock_plan import charts, crosscheck, tables
 from planner.kinds.stock_plan.compute import StockJob
 from planner.kinds.stock_plan.forms import ChangeLawForm, StockPlanForm, WhatIfForm, form_initial
+from planner.kinds.stock_plan.from_fit import params_from_fit
 from planner.kinds.stock_plan.params import StockPlanParams
 from planner.kinds.stock_plan.whatif import apply_changes, describe_changes
 
@@ -67,6 +68,9 @@ class StockPlan(Kind):
 
     def table_rows(self, result, table):
         return tables.ROWS[table](result)
+
+    def params_from_fit(self, fitted, *, start, high, horizon):
+        return params_from_fit(fitted, start=start, high=high, horizon=horizon)
 
     def preview_form(self, data):
         return ChangeLawForm(data)
