@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from pathlib import Path
+
 from django import forms
 
 from planner.formatting import period_name
@@ -25,12 +27,26 @@ class HistoryFields(forms.Form):
 
 
 class UploadForm(HistoryFields):
+    field_order = ["file", "period", "title", "notes"]
+
     file = forms.FileField(
         label="History file (CSV)",
         help_text=f"A header naming {COLUMNS_TEXT}, then one row per period in date order, dates written "
         "YYYY-MM-DD, whole numbers only. At most 2 MB.",
         widget=forms.ClearableFileInput(attrs={"accept": ".csv,text/csv"}),
+        allow_empty_file=True,  # the reader says so itself, in the words it uses for every refusal
     )
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        self.fields["title"].required = False
+        self.fields["title"].help_text = "Leave empty to use the file's name."
+
+    def clean(self):
+        data = super().clean()
+        if not data.get("title") and data.get("file"):
+            data["title"] = Path(data["file"].name).stem[:120] or "History"
+        return data
 
 
 class SaveForm(HistoryFields):
