@@ -34,7 +34,6 @@ MIN_DRAWS, MAX_DRAWS = 20, 400
 # Draws priced first to learn the cost of one (risk_band_work), and the margin kept over their average.
 PILOT_DRAWS, PILOT_MARGIN = 10, 1.25
 LOW = 0
-KNOB = "set a capacity, shorten the horizon or start nearer the usual stock"
 
 SIDE_WORDS = {"deliveries": "Deliveries (in)", "demand": "Demand (out)", "change": "Change in the level"}
 CHOICE_WORDS = {
@@ -297,6 +296,12 @@ class RangeJob:
         else:
             self.laws = {"arrivals": sides["deliveries"], "demand": sides["demand"]}
 
+    def knob(self) -> str:
+        """What makes the work smaller: a capacity bounds the stock levels worked over."""
+        if self.inputs.high is None:
+            return "set a capacity, shorten the horizon or lower the start stock"
+        return "shorten the horizon or lower the capacity"
+
     def walk(self) -> wm.BandedWalk:
         if "change" in self.laws:
             law = self.laws["change"].law
@@ -326,7 +331,7 @@ class RangeJob:
         if headline > cap:
             raise wm.ComputeTooLarge(
                 f"Working out the risk over {self.inputs.horizon:,} {self.fit.history.period}s from these laws needs "
-                f"about {headline / cap:.1f} times this page's budget. To fit, {KNOB}."
+                f"about {headline / cap:.1f} times this page's budget. To fit, {self.knob()}."
             )
         outlook = walk.outlook(self.inputs.horizon)
         budget = cap - headline
@@ -346,6 +351,6 @@ class RangeJob:
         if band is None:
             refusal = (
                 f"A credible range needs at least {MIN_DRAWS} draws of the fitted laws; this page's budget affords "
-                f"{affordable} at these inputs. To see it, {KNOB}."
+                f"{affordable} at these inputs. To see it, {self.knob()}."
             )
         return RangeResult(self.inputs, outlook, band, int(affordable), unit_cost, budget, refusal)
