@@ -28,6 +28,8 @@ from planner.history_file import History
 from walkmath.profile import WEEKDAYS
 
 SEED = 1
+# Said before the engine's reason when a history's counts or changes are too wide for its laws.
+FIT_REFUSED = "These records cannot be fitted:"
 CREDIBLE = 0.9
 # Draws of the fitted laws for the credible range: as many as the page's budget affords, within these.
 MIN_DRAWS, MAX_DRAWS = 20, 400
@@ -335,8 +337,11 @@ class RangeJob:
             )
         outlook = walk.outlook(self.inputs.horizon)
         budget = cap - headline
-        pilot = wm.risk_band_work(**self._band_args(PILOT_DRAWS))
-        unit_cost = max(1, math.ceil(pilot.units / PILOT_DRAWS * PILOT_MARGIN))
+        try:
+            pilot = wm.risk_band_work(**self._band_args(PILOT_DRAWS)).units
+        except wm.ComputeTooLarge:  # even the pilot's laws are past the engine's own limits
+            pilot = wm.WORK_CAP * PILOT_DRAWS
+        unit_cost = max(1, math.ceil(pilot / PILOT_DRAWS * PILOT_MARGIN))
         affordable = budget // unit_cost
         draws = min(affordable, MAX_DRAWS)
         band, refusal = None, ""

@@ -17,6 +17,7 @@ from planner.history import charts, tables
 from planner.history.fit import (
     CHOICE_WORDS,
     CREDIBLE,
+    FIT_REFUSED,
     MAX_DRAWS,
     MIN_DRAWS,
     SIDE_WORDS,
@@ -209,26 +210,29 @@ def fit_context(history, fit: HistoryFit, form, *, cap: int) -> dict:
     return context
 
 
-class RangeRefused(ValueError):
-    """The range CSV cannot be made from this query (a field out of range, or too costly)."""
+class TableRefused(ValueError):
+    """A CSV table cannot be made: the history cannot be fitted, or the range's query is out of range or too costly."""
 
 
 def csv_rows(history, table: str, query, *, cap: int) -> Iterator[list]:
-    """Rows of one of ``tables.TABLES``; RangeRefused naming the input when the range cannot be given."""
+    """Rows of one of ``tables.TABLES``; TableRefused naming the input when the table cannot be given."""
     parsed = history.parsed()
     if table == "history":
         return tables.history_rows(parsed)
-    fit = fit_history(parsed)
+    try:
+        fit = fit_history(parsed)
+    except ValueError as refusal:
+        raise TableRefused(f"{FIT_REFUSED} {refusal}.") from None
     if table == "laws":
         return tables.law_rows(fit)
     if table == "frequencies":
         return tables.frequency_rows(fit)
     form = RangeForm(query or range_initial(fit), period=history.period)
     if not form.is_valid():
-        raise RangeRefused("; ".join(f"{name}: {' '.join(errors)}" for name, errors in form.errors.items()))
+        raise TableRefused("; ".join(f"{name}: {' '.join(errors)}" for name, errors in form.errors.items()))
     data = form.cleaned_data
     try:
         result = RangeJob(fit, RangeInputs(data["start"], data["high"], data["horizon"])).run(cap)
     except ValueError as refusal:
-        raise RangeRefused(str(refusal)) from None
+        raise TableRefused(str(refusal)) from None
     return tables.range_rows(result)

@@ -11,7 +11,7 @@ from __future__ import annotations
 from django.db import transaction
 
 from planner import services
-from planner.history.fit import RangeInputs, fit_history, fitted_laws
+from planner.history.fit import FIT_REFUSED, RangeInputs, fit_history, fitted_laws
 from planner.history.models import SERIES, SavedHistory
 from planner.history_file import History
 from planner.kinds import get_kind
@@ -54,7 +54,11 @@ def history_delete(*, history: SavedHistory) -> None:
 def plan_params_from_fit(*, history: SavedHistory, kind, inputs: RangeInputs, weekday_pattern: bool = False):
     """(parameters, laws) of a ``kind`` plan from ``history``'s fit; None parameters when the kind is not
     made from fits; ValueError naming what does not fit."""
-    laws = fitted_laws(fit_history(history.parsed()), source=history.title, weekday_pattern=weekday_pattern)
+    try:
+        fit = fit_history(history.parsed())
+    except ValueError as refusal:
+        raise ValueError(f"{FIT_REFUSED} {refusal}.") from None
+    laws = fitted_laws(fit, source=history.title, weekday_pattern=weekday_pattern)
     params = kind.params_from_fit(laws, start=inputs.start, high=inputs.high, horizon=inputs.horizon)
     return params, laws
 

@@ -16,10 +16,10 @@ from django.views.decorators.http import require_GET, require_http_methods, requ
 
 from planner.csv_writer import file_name, table_csv
 from planner.history import charts, services, tables, upload
-from planner.history.fit import RangeInputs, fit_history
+from planner.history.fit import FIT_REFUSED, RangeInputs, fit_history
 from planner.history.forms import PlanFromFitForm, RangeForm, SaveForm, UploadForm
 from planner.history.models import SavedHistory
-from planner.history.pages import RangeRefused, csv_rows, fit_context, preview_rows, range_initial
+from planner.history.pages import TableRefused, csv_rows, fit_context, preview_rows, range_initial
 from planner.history.permissions import get_history_for
 from planner.history_file import HistoryFileError
 
@@ -115,7 +115,11 @@ def history_fit(request, pk: int):
     """The fit, and the risk with its credible range for the start, capacity and horizon in the query."""
     history = get_history_for(request.user, pk)
     began = time.perf_counter()
-    fit = fit_history(history.parsed())
+    try:
+        fit = fit_history(history.parsed())
+    except ValueError as refusal:  # counts or changes too large for the engine's laws
+        context = {"history": history, "fit_error": f"{FIT_REFUSED} {refusal}."}
+        return render(request, "planner/history/fit.html", context)
     form = RangeForm(request.GET or range_initial(fit), period=history.period)
     context = fit_context(history, fit, form, cap=settings.PLANNER_COMPUTE_CAP)
     response = render(request, "planner/history/fit.html", context)
@@ -155,7 +159,7 @@ def history_csv(request, pk: int, table: str):
         raise Http404("No such table")
     try:
         rows = csv_rows(history, table, request.GET, cap=settings.PLANNER_COMPUTE_CAP)
-    except RangeRefused as refusal:
+    except TableRefused as refusal:
         return HttpResponse(str(refusal), status=400, content_type="text/plain; charset=utf-8")
     response = HttpResponse(table_csv(rows, title=history.title), content_type="text/csv; charset=utf-8")
     response["Content-Disposition"] = f'attachment; filename="{file_name(history.title, table)}"'

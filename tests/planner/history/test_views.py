@@ -292,3 +292,41 @@ def test_a_plan_that_cannot_be_made_writes_nothing_and_says_why(client, history,
     assert "No plan was made." in response.content.decode()
     bad = client.post(reverse("history_plan_create", args=[history.pk, "stock_plan"]), {"start": "x"}, follow=True)
     assert "No plan was made: Enter a whole number." in bad.content.decode() and not Scenario.objects.exists()
+
+
+# -- records the engine cannot fit ----------------------------------------------------------------
+
+
+@pytest.fixture
+def jumpy_history(owner):
+    from planner.history.services import history_create
+    from tests.planner.history.conftest import parse
+
+    # Whole numbers the reader accepts (up to 10^9) but too wide for the engine's laws.
+    data = b"date,level\n2025-03-03,0\n2025-03-04,1000000000\n2025-03-05,0\n"
+    return history_create(owner=owner, title="Flour by the gram", parsed=parse(data))
+
+
+def test_records_too_wide_to_fit_are_explained_not_a_server_error(client, jumpy_history):
+    client.force_login(jumpy_history.owner)
+    page = words(client.get(reverse("history_fit", args=[jumpy_history.pk]), RANGE).content.decode())
+    assert "These records cannot be fitted: history must span at most 1,048,577 whole numbers" in page
+    assert "Count in larger units" in page
+    response = client.get(reverse("history_csv", args=[jumpy_history.pk, "laws"]))
+    assert response.status_code == 400 and b"These records cannot be fitted" in response.content
+    assert client.get(reverse("history_csv", args=[jumpy_history.pk, "history"])).status_code == 200
+    made = client.post(reverse("history_plan_create", args=[jumpy_history.pk, "stock_plan"]), RANGE, follow=True)
+    assert "No plan was made. These records cannot be fitted: history must span" in words(made.content.decode())
+    assert not Scenario.objects.exists()
+
+
+def test_a_history_of_nothing_moving_still_fits(client, owner):
+    from planner.history.services import history_create
+    from tests.planner.history.conftest import parse
+
+    still = history_create(
+        owner=owner, title="Closed for winter", parsed=parse(b"date,in,out\n2025-01-06,0,0\n2025-01-07,0,0\n")
+    )
+    client.force_login(owner)
+    page = words(client.get(reverse("history_fit", args=[still.pk]), {"start": "5", "horizon": "7"}).content.decode())
+    assert 'data-figure="stockout"' in page and "0 %" in page
