@@ -69,7 +69,7 @@ class EstimateRow:
     method: str
 
 
-def estimate_rows(side, period: str) -> list[EstimateRow]:
+def estimate_rows(side) -> list[EstimateRow]:
     """The Poisson and negative-binomial parameters with their intervals, in words."""
     rows = []
     for fit in side.count_fits:
@@ -97,7 +97,7 @@ def _interval(low: float, high: float) -> str:
     return f"{number(low)} to {'no upper end' if math.isinf(high) else number(high)}"
 
 
-def goodness_rows(side, period: str) -> list[dict]:
+def goodness_rows(side) -> list[dict]:
     rows = []
     for family, check in (side.recommendation.goodness or {}).items():
         p_value = "too few to test" if check.p_value is None else f"{check.p_value:.2g}"
@@ -146,8 +146,8 @@ def side_views(fit: HistoryFit, fit_charts: dict) -> list[dict]:
             "label": SIDE_WORDS[side.what],
             "choice": CHOICE_WORDS[side.choice],
             "reason": side.recommendation.reason,
-            "estimates": estimate_rows(side, period),
-            "goodness": goodness_rows(side, period),
+            "estimates": estimate_rows(side),
+            "goodness": goodness_rows(side),
             "posterior": posterior_words(side, period),
             "chart_name": f"freq-{side.what}",
             "chart_summary": fit_charts[f"freq-{side.what}"]["summary"],
@@ -157,16 +157,15 @@ def side_views(fit: HistoryFit, fit_charts: dict) -> list[dict]:
 
 
 def plan_options(history, fit: HistoryFit, inputs: RangeInputs | None) -> list[dict]:
-    """Every kind that makes plans from fits, with the reason when it cannot take this one."""
+    """Every kind made from fits, each with the reason it cannot take this one ("" when it can); none
+    before the inputs are valid. Builds parameters only (no law, no computation)."""
+    if inputs is None:
+        return []
     options = []
     laws = fitted_laws(fit, source=history.title)
     for kind in all_kinds():
         try:
-            params = (
-                kind.params_from_fit(laws, start=inputs.start, high=inputs.high, horizon=inputs.horizon)
-                if inputs
-                else kind.params_from_fit(laws, start=0, high=None, horizon=1)
-            )
+            params = kind.params_from_fit(laws, start=inputs.start, high=inputs.high, horizon=inputs.horizon)
         except ValueError as refusal:
             options.append({"kind": kind, "refusal": str(refusal)})
             continue
