@@ -21,7 +21,7 @@ from planner.history.forms import PlanFromFitForm, RangeForm, SaveForm, UploadFo
 from planner.history.models import SavedHistory
 from planner.history.pages import TableRefused, csv_rows, fit_context, preview_rows, range_initial
 from planner.history.permissions import get_history_for
-from planner.history_file import HistoryFileError
+from planner.history_file import MAX_BYTES, HistoryFileError
 
 NEW = "planner/history/new.html"
 PREVIEW = "planner/history/preview.html"
@@ -40,7 +40,7 @@ def history_list(request):
 def history_new(request):
     refusal = upload.too_large(request) if request.method == "POST" else None
     if refusal:
-        return render(request, NEW, {"form": UploadForm(), "refusal": refusal}, status=413)
+        return render(request, NEW, _refused(refusal), status=413)
     return _history_upload(request)
 
 
@@ -57,7 +57,11 @@ def _history_upload(request):
             initial = {key: data[key] for key in ("title", "notes", "period")}
             save = SaveForm(initial=initial | {"data": upload.canonical_csv(parsed), "file_name": data["file"].name})
             return render(request, PREVIEW, _preview(parsed, save))
-    return render(request, NEW, {"form": form})
+    return render(request, NEW, {"form": form, "max_bytes": MAX_BYTES})
+
+
+def _refused(refusal: str) -> dict:
+    return {"form": UploadForm(), "refusal": refusal, "max_bytes": MAX_BYTES}
 
 
 def _preview(parsed, save: SaveForm) -> dict:
@@ -77,11 +81,11 @@ def history_save(request):
     """Save what the preview showed: the history written back by the reader, read again with its checks."""
     save = SaveForm(request.POST)
     if not save.is_valid() and "data" in save.errors:
-        return render(request, NEW, {"form": UploadForm(), "refusal": "Nothing was saved: upload the file again."})
+        return render(request, NEW, _refused("Nothing was saved: upload the file again."))
     try:
         parsed = upload.read_canonical(save.data.get("data", ""), period=save.data.get("period", ""))
     except HistoryFileError as error:
-        return render(request, NEW, {"form": UploadForm(), "refusal": f"Nothing was saved. {error}"})
+        return render(request, NEW, _refused(f"Nothing was saved. {error}"))
     if not save.is_valid():
         return render(request, PREVIEW, _preview(parsed, save))
     data = save.cleaned_data

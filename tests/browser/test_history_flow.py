@@ -81,3 +81,17 @@ def test_a_bad_file_is_refused_on_the_page(page, live_server, owner, tmp_path):
     assert page.inner_text("[data-field=file] .field-error") == "Row 3, column in: 'thirty' is not a whole number"
     assert no_sideways_scroll(page)
     assert not SavedHistory.objects.exists()
+
+
+def test_a_file_over_the_limit_is_stopped_before_it_is_sent(page, live_server, owner):
+    sign_in(page, live_server, "olwen")
+    page.goto(f"{live_server.url}/histories/new/")
+    line = b"2025-03-03,30,29\n"
+    big = b"date,in,out\n" + line * (3 * 2**20 // len(line))
+    page.set_input_files("input[name=file]", {"name": "flour.csv", "mimeType": "text/csv", "buffer": big})
+    sent = []
+    page.on("request", lambda request: sent.append(request) if request.method == "POST" else None)
+    page.click("#upload-form button[type=submit]")
+    page.wait_for_selector("#upload-size-error:not([hidden])")
+    assert page.inner_text("#upload-size-error").startswith("The file flour.csv is 3.0 MB; a history file may be at")
+    assert not sent and not SavedHistory.objects.exists()
