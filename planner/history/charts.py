@@ -61,7 +61,7 @@ def frequency_chart(side: SideFit, period: str) -> dict:
         fig = {
             "data": [_bars(fit.steps, fit.observed, f"{period_name(period, 2)} seen")],
             "layout": layout(
-                f"How often each change happened ({side.what})",
+                "How often each change in the level happened",
                 f"change in one {name} (units)",
                 f"{period_name(period, 2)}",
             ),
