@@ -70,3 +70,7 @@ class Scenario(models.Model):
     @property
     def meets_target(self) -> bool | None:
         return None if self.headline_risk is None else self.headline_risk <= self.stockout_target
+
+
+# Saved histories live in their own module; imported here so Django finds the model.
+from planner.history.models import SavedHistory  # noqa: E402, F401

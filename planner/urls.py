@@ -1,6 +1,6 @@
 from django.contrib import admin
 from django.contrib.auth import views as auth_views
-from django.urls import path
+from django.urls import include, path
 
 from planner import views
 
@@ -15,6 +15,7 @@ urlpatterns = [
     path("scenarios/<int:pk>/cross-check.json", views.scenario_cross_check_json, name="scenario_cross_check_json"),
     path("scenarios/<int:pk>/save-variant/", views.scenario_variant_save, name="scenario_variant_save"),
     path("scenarios/<int:pk>/csv/<slug:table>.csv", views.scenario_csv, name="scenario_csv"),
+    path("histories/", include("planner.history.urls")),
     path("kinds/<slug:kind>/preview.json", views.kind_preview, name="kind_preview"),
     path("accounts/login/", auth_views.LoginView.as_view(redirect_authenticated_user=True), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),

@@ -111,6 +111,16 @@ class Kind:
         """A few what-if queries near the saved plan, for the benchmarks and the load test (none by default)."""
         return []
 
+    def params_from_fit(self, fitted, *, start: int, high: int | None, horizon: int) -> Any:
+        """Parameters of a new plan made from a history's fit, or None (the default): not made from fits.
+
+        ``fitted`` is a ``planner.history.fit.FittedLaws`` (plain values: the period, the fitted
+        count laws as JSON-shaped dicts or the observed change table, a weekday pattern); ``start``,
+        ``high`` (None: no capacity) and ``horizon`` are what the analyst gave on the fit page.
+        ValueError naming what does not fit; the fit page then shows it beside the button.
+        """
+        return None
+
     def preview_form(self, data):
         """The form behind the live preview (None: the kind has no preview)."""
         return None

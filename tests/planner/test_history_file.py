@@ -95,50 +95,52 @@ def test_reads_a_django_upload():
 # -- refusals, each with its message ------------------------------------------------------------------
 
 
-@pytest.mark.parametrize(
-    ("data", "message"),
-    [
-        (b"", "The file is empty"),
-        (b" \r\n\r\n", "The file is empty"),
-        (b"date,level\r\n", "The file has a header but no rows of data"),
-        (b"date,level\r\n2024-01-01,5\r\n", "A level history needs at least two rows"),
-        (b"date,level\n2024-01-01,5\n2024-01-02,\n", "Row 3, column level: missing value"),
-        (b"date,in,out\n2024-01-01,,4\n", "Row 2, column in: missing value"),
-        (b"date,in,out\n2024-01-01,3, \n", "Row 2, column out: missing value"),
-        (b"date,level\n,5\n", "Row 2, column date: missing value"),
-        (b"date,level\n2024-01-01,12.5\n", "Row 2, column level: '12.5' is not a whole number"),
-        (b"date,level\n2024-01-01,twelve\n", "Row 2, column level: 'twelve' is not a whole number"),
-        (b'date,level\n2024-01-01,"1,200"\n', "Row 2, column level: '1,200' is not a whole number"),
-        (b"date,level\n2024-01-01,1_200\n", "Row 2, column level: '1_200' is not a whole number"),
-        ("date,level\n2024-01-01,١٢\n".encode(), "Row 2, column level: '١٢' is not a whole number"),
-        (b"date,in,out\n2024-01-01,3,-4\n", "Row 2, column out: -4 is negative; units in and out are counted"),
-        (b"date,level\n2024-01-01,1000000001\n", "Row 2, column level: 1000000001 is beyond 1,000,000,000"),
-        (b"date,level\n2024-01-01," + b"9" * 5000 + b"\n", "Row 2, column level: 999999999999... is beyond"),
-        (b"date,level\n01/02/2024,5\n", "Row 2, column date: '01/02/2024' is not a date written YYYY-MM-DD"),
-        (b"date,level\n2024-02-30,5\n", "Row 2, column date: 2024-02-30 is not a calendar date"),
-        (
-            b"date,level\n2024-01-02,5\n2024-01-01,6\n",
-            "Row 3, column date: 2024-01-01 comes before 2024-01-02 (row 2); rows must be in date order",
-        ),
-        (b"date,level\n2024-01-01,5\n2024-01-01,6\n", "Row 3, column date: 2024-01-01 repeats the date of row 2"),
-        (
-            b"date,level\n2024-01-01,5\n2024-01-02,6\n2024-01-05,6\n",
-            "Row 4, column date: gap: no row for 2024-01-03 to 2024-01-04 between 2024-01-02 (row 3) and "
-            "2024-01-05; a history needs one row per day",
-        ),
-        (b"date;level\n2024-01-01;5\n", "Row 1: the values are separated by semicolons; this reader expects commas"),
-        (b"date\tlevel\n2024-01-01\t5\n", "Row 1: the values are separated by tabs"),
-        (b"date,level\n2024-01-01;5\n", "Row 2: the values are separated by semicolons"),
-        (b"date,level\n2024-01-01,5,7\n", "Row 2: the row has 3 values; the header names 2"),
-        (b"date,level,note\n", "Row 1, column 3: unknown column 'note'; the header must name date,level"),
-        (b"date,in\n", "Row 1: the header names date,in; it must name date,level (levels) or date,in,out"),
-        (b"date,level,level\n", "Row 1, column level: column 'level' is named twice"),
-        (b'date,level\n2024-01-01,"5"7\n', "Row 2: the file is not valid CSV"),
-        (b"date,level\n2024-01-01,5\n2024-01-02,\xe96\n", "Row 3: byte 0xe9 is not UTF-8 text; save the file as CSV"),
-        ("date,level\n2024-01-01,5\n".encode("utf-16"), "The file is not UTF-8 text (it holds zero bytes"),
-        (b"PK\x03\x04\x14\x00\x06\x00", "The file is not UTF-8 text (it holds zero bytes"),  # a spreadsheet
-    ],
-)
+# Every kind of malformed file the reader refuses, with the start of its message (the upload view
+# tests run the same cases through the page: tests/planner/history/test_upload.py).
+MALFORMED_FILES = [
+    (b"", "The file is empty"),
+    (b" \r\n\r\n", "The file is empty"),
+    (b"date,level\r\n", "The file has a header but no rows of data"),
+    (b"date,level\r\n2024-01-01,5\r\n", "A level history needs at least two rows"),
+    (b"date,level\n2024-01-01,5\n2024-01-02,\n", "Row 3, column level: missing value"),
+    (b"date,in,out\n2024-01-01,,4\n", "Row 2, column in: missing value"),
+    (b"date,in,out\n2024-01-01,3, \n", "Row 2, column out: missing value"),
+    (b"date,level\n,5\n", "Row 2, column date: missing value"),
+    (b"date,level\n2024-01-01,12.5\n", "Row 2, column level: '12.5' is not a whole number"),
+    (b"date,level\n2024-01-01,twelve\n", "Row 2, column level: 'twelve' is not a whole number"),
+    (b'date,level\n2024-01-01,"1,200"\n', "Row 2, column level: '1,200' is not a whole number"),
+    (b"date,level\n2024-01-01,1_200\n", "Row 2, column level: '1_200' is not a whole number"),
+    ("date,level\n2024-01-01,١٢\n".encode(), "Row 2, column level: '١٢' is not a whole number"),
+    (b"date,in,out\n2024-01-01,3,-4\n", "Row 2, column out: -4 is negative; units in and out are counted"),
+    (b"date,level\n2024-01-01,1000000001\n", "Row 2, column level: 1000000001 is beyond 1,000,000,000"),
+    (b"date,level\n2024-01-01," + b"9" * 5000 + b"\n", "Row 2, column level: 999999999999... is beyond"),
+    (b"date,level\n01/02/2024,5\n", "Row 2, column date: '01/02/2024' is not a date written YYYY-MM-DD"),
+    (b"date,level\n2024-02-30,5\n", "Row 2, column date: 2024-02-30 is not a calendar date"),
+    (
+        b"date,level\n2024-01-02,5\n2024-01-01,6\n",
+        "Row 3, column date: 2024-01-01 comes before 2024-01-02 (row 2); rows must be in date order",
+    ),
+    (b"date,level\n2024-01-01,5\n2024-01-01,6\n", "Row 3, column date: 2024-01-01 repeats the date of row 2"),
+    (
+        b"date,level\n2024-01-01,5\n2024-01-02,6\n2024-01-05,6\n",
+        "Row 4, column date: gap: no row for 2024-01-03 to 2024-01-04 between 2024-01-02 (row 3) and "
+        "2024-01-05; a history needs one row per day",
+    ),
+    (b"date;level\n2024-01-01;5\n", "Row 1: the values are separated by semicolons; this reader expects commas"),
+    (b"date\tlevel\n2024-01-01\t5\n", "Row 1: the values are separated by tabs"),
+    (b"date,level\n2024-01-01;5\n", "Row 2: the values are separated by semicolons"),
+    (b"date,level\n2024-01-01,5,7\n", "Row 2: the row has 3 values; the header names 2"),
+    (b"date,level,note\n", "Row 1, column 3: unknown column 'note'; the header must name date,level"),
+    (b"date,in\n", "Row 1: the header names date,in; it must name date,level (levels) or date,in,out"),
+    (b"date,level,level\n", "Row 1, column level: column 'level' is named twice"),
+    (b'date,level\n2024-01-01,"5"7\n', "Row 2: the file is not valid CSV"),
+    (b"date,level\n2024-01-01,5\n2024-01-02,\xe96\n", "Row 3: byte 0xe9 is not UTF-8 text; save the file as CSV"),
+    ("date,level\n2024-01-01,5\n".encode("utf-16"), "The file is not UTF-8 text (it holds zero bytes"),
+    (b"PK\x03\x04\x14\x00\x06\x00", "The file is not UTF-8 text (it holds zero bytes"),  # a spreadsheet
+]
+
+
+@pytest.mark.parametrize(("data", "message"), MALFORMED_FILES)
 def test_malformed_files_are_refused_naming_row_and_column(data, message):
     assert str(refusal(data)).startswith(message)
 

@@ -15,6 +15,7 @@ from planner.kinds import Kind, Part, register
 from planner.kinds.stock_plan import charts, crosscheck, tables
 from planner.kinds.stock_plan.compute import StockJob
 from planner.kinds.stock_plan.forms import ChangeLawForm, StockPlanForm, WhatIfForm, form_initial
+from planner.kinds.stock_plan.from_fit import params_from_fit
 from planner.kinds.stock_plan.params import StockPlanParams
 from planner.kinds.stock_plan.whatif import apply_changes, describe_changes
 
@@ -73,6 +74,9 @@ class StockPlan(Kind):
         top = params.high if params.high is not None else params.start + 1
         starts = sorted({max(params.low, params.start - 1), params.start, min(top, params.start + 1)})
         return [{"start": start, "horizon": params.horizon} for start in starts]
+
+    def params_from_fit(self, fitted, *, start, high, horizon):
+        return params_from_fit(fitted, start=start, high=high, horizon=horizon)
 
     def preview_form(self, data):
         return ChangeLawForm(data)

@@ -9,6 +9,7 @@ from django.core.management.base import BaseCommand
 from django.db import transaction
 
 from planner import services
+from planner.history.demo import load_demo_histories
 from planner.kinds import get_kind
 from planner.models import Scenario
 
@@ -30,11 +31,12 @@ class Command(BaseCommand):
             user.save(update_fields=["password"])
             for item in data["scenarios"]:
                 self._load(user, item)
+            histories = load_demo_histories(user)
         self.stdout.write(
             self.style.SUCCESS(
                 f"Demo account {'created' if created else 'refreshed'}: "
                 f"username {account['username']!r}, password {account['password']!r} "
-                f"({len(data['scenarios'])} scenarios)."
+                f"({len(data['scenarios'])} scenarios, {histories} {'history' if histories == 1 else 'histories'})."
             )
         )
         if not settings.DEBUG:
