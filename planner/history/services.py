@@ -74,10 +74,8 @@ def scenario_create_from_fit(
         raise ValueError(f"A {kind.label.lower()} cannot be made from a fitted history yet.")
     notes = (
         f"Made from the history “{laws.source}” ({laws.periods:,} {laws.period}s of changes, {laws.first_date} to "
-        f"{laws.last_date}): {laws.summary}. Unmet demand is lost and stock beyond the capacity is turned away."
-    )
-    if laws.weekday_factors:
-        notes += f" Day 1 is a {laws.first_weekday}, the day after the history ends."
+        f"{laws.last_date}): {laws.summary}. {kind.fit_note(laws)}"
+    ).strip()
     return services.scenario_create(
         owner=owner, kind=kind.key, title=f"{history.title[:100]}: plan from the fit", notes=notes, params=params
     )

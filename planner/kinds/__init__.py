@@ -121,6 +121,10 @@ class Kind:
         """
         return None
 
+    def fit_note(self, fitted) -> str:
+        """What a plan made from ``fitted`` assumed beyond the history, for its notes ("" by default)."""
+        return ""
+
     def preview_form(self, data):
         """The form behind the live preview (None: the kind has no preview)."""
         return None

@@ -66,6 +66,8 @@ def test_analyst_uploads_a_history_fits_it_and_makes_a_plan(page, live_server, o
     assert page.url == f"{live_server.url}/scenarios/{scenario.pk}/"
     assert page.inner_text("[data-figure=stockout] .value").strip() == risk
     assert scenario.params.start == 200 and scenario.params.high == 400 and scenario.params.horizon == 28
+    # the new plan's cross-check panel: exact beside the normal approximation and the simulation
+    page.wait_for_selector("#cross-check[data-state=done] #cross-check-table tbody tr", timeout=60_000)
     assert no_sideways_scroll(page)
 
 

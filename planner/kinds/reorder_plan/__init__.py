@@ -11,7 +11,7 @@ from __future__ import annotations
 import walkmath as wm
 from planner.formatting import number, period_name, units
 from planner.kinds import Kind, Part, register
-from planner.kinds.reorder_plan import charts, tables
+from planner.kinds.reorder_plan import charts, from_fit, tables
 from planner.kinds.reorder_plan.compute import ReorderJob
 from planner.kinds.reorder_plan.forms import DemandLeadTimeForm, ReorderPlanForm, WhatIfForm, form_initial
 from planner.kinds.reorder_plan.params import ReorderPlanParams
@@ -64,6 +64,12 @@ class ReorderPlan(Kind):
             return [{"lead_time": value} for value in values]
         values = sorted({max(0, params.review_period - 1), params.review_period, params.review_period + 1})
         return [{"review_period": value} for value in values]
+
+    def params_from_fit(self, fitted, *, start, high, horizon):
+        return from_fit.params_from_fit(fitted, start=start, high=high, horizon=horizon)
+
+    def fit_note(self, fitted) -> str:
+        return from_fit.fit_note(fitted)
 
     def preview_form(self, data):
         return DemandLeadTimeForm(data)

@@ -12,10 +12,9 @@ import numpy as np
 
 from planner.formatting import rate
 from planner.kinds import Kind, Part, register
-from planner.kinds.stock_plan import charts, crosscheck, tables
+from planner.kinds.stock_plan import charts, crosscheck, from_fit, tables
 from planner.kinds.stock_plan.compute import StockJob
 from planner.kinds.stock_plan.forms import ChangeLawForm, StockPlanForm, WhatIfForm, form_initial
-from planner.kinds.stock_plan.from_fit import params_from_fit
 from planner.kinds.stock_plan.params import StockPlanParams
 from planner.kinds.stock_plan.whatif import apply_changes, describe_changes
 
@@ -76,7 +75,10 @@ class StockPlan(Kind):
         return [{"start": start, "horizon": params.horizon} for start in starts]
 
     def params_from_fit(self, fitted, *, start, high, horizon):
-        return params_from_fit(fitted, start=start, high=high, horizon=horizon)
+        return from_fit.params_from_fit(fitted, start=start, high=high, horizon=horizon)
+
+    def fit_note(self, fitted) -> str:
+        return from_fit.fit_note(fitted)
 
     def preview_form(self, data):
         return ChangeLawForm(data)

@@ -35,3 +35,10 @@ def params_from_fit(fitted, *, start: int, high: int | None, horizon: int) -> St
         )
     except ValueError as refusal:
         raise ValueError(f"A stock plan cannot hold this fit as it stands: {refusal}.") from None
+
+
+def fit_note(fitted) -> str:
+    note = "Unmet demand is lost and stock beyond the capacity is turned away."
+    if fitted.weekday_factors:
+        note += f" Day 1 is a {fitted.first_weekday}, the day after the history ends."
+    return note

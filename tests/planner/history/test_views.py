@@ -276,6 +276,18 @@ def test_one_click_makes_a_stock_plan_with_the_fitted_laws(client, history):
     assert scenario.owner == history.owner and scenario.headline_risk is not None
 
 
+def test_one_click_makes_a_reorder_plan_with_the_fitted_demand(client, history):
+    client.force_login(history.owner)
+    response = client.post(reverse("history_plan_create", args=[history.pk, "reorder_plan"]), RANGE)
+    scenario = Scenario.objects.get()
+    assert response.status_code == 302 and response["Location"] == scenario.get_absolute_url()
+    assert scenario.kind == "reorder_plan"
+    # The Poisson maximum-likelihood mean is the average count (any statistics text; numpy's mean here).
+    assert scenario.params.demand.mean == pytest.approx(np.mean(history.series["out"]), rel=1e-12)
+    assert "set your own with Edit" in scenario.notes and "turned away" not in scenario.notes
+    assert client.get(scenario.get_absolute_url()).status_code == 200
+
+
 def test_the_plans_stockout_risk_is_the_fit_pages(client, history):
     page = fit_page(client, history)
     shown = re.search(r'data-figure="stockout">.*?class="value">([^<]+)<', page, re.S)[1]
