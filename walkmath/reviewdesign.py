@@ -383,13 +383,12 @@ def _choice(demand, lead_time, unmet, table, feasible) -> PolicyChoice:
     order = np.lexsort((table["s"], table["S"]))
     table = {name: values[order] for name, values in table.items()}
     feasible = feasible[order]
-    curve_s, curve_big_s, curve_cost = [], [], []
-    for level in np.unique(table["S"][feasible]):
-        rows = np.flatnonzero(feasible & (table["S"] == level))
-        best = rows[np.argmin(table["cost"][rows])]
-        curve_big_s.append(int(level))
-        curve_s.append(int(table["s"][best]))
-        curve_cost.append(float(table["cost"][best]))
+    # The cheapest feasible s for each S (ties: the smallest s): feasible rows by S, then cost, then s;
+    # the first row of each S is its best.
+    rows = np.flatnonzero(feasible)
+    by_cost = rows[np.lexsort((table["s"][rows], table["cost"][rows], table["S"][rows]))]
+    _, first = np.unique(table["S"][by_cost], return_index=True)
+    best_rows = by_cost[first]
     if feasible.any():
         rows = np.flatnonzero(feasible)
         best = rows[np.argmin(table["cost"][rows])]  # ties: the smallest S, then the smallest s
@@ -408,7 +407,7 @@ def _choice(demand, lead_time, unmet, table, feasible) -> PolicyChoice:
         service=table["service"],
         shortfall=table["shortfall"],
         feasible=feasible,
-        curve_order_up_to=np.array(curve_big_s, dtype=int),
-        curve_reorder_level=np.array(curve_s, dtype=int),
-        curve_cost=np.array(curve_cost),
+        curve_order_up_to=table["S"][best_rows].astype(int),
+        curve_reorder_level=table["s"][best_rows].astype(int),
+        curve_cost=table["cost"][best_rows].astype(float),
     )

@@ -107,6 +107,17 @@ def test_best_policy_is_the_cheapest_pair_by_exact_enumeration(lead_time, unmet,
     assert choice.feasible.sum() == len(candidates)
     best_by_level = dict(zip(choice.curve_order_up_to.tolist(), choice.curve_cost.tolist(), strict=True))
     assert best_by_level[big_s] == pytest.approx(float(cost), rel=1e-13)
+    # the cost curve: for every order-up-to level, its cheapest feasible reorder level (exact fractions)
+    cheapest = {}
+    for level_cost, level, reorder in candidates:  # sorted by cost, then S, then s: the first per S is its best
+        cheapest.setdefault(level, (level_cost, reorder))
+    assert choice.curve_order_up_to.tolist() == sorted(cheapest)
+    for level, reorder, level_cost in zip(
+        choice.curve_order_up_to, choice.curve_reorder_level, choice.curve_cost, strict=True
+    ):
+        assert level_cost == pytest.approx(float(cheapest[level][0]), rel=1e-13)
+        if sum(1 for c, lv, _ in candidates if lv == level and c == cheapest[level][0]) == 1:
+            assert reorder == cheapest[level][1]
 
 
 @settings(max_examples=25, deadline=None)
