@@ -17,7 +17,7 @@ import walkmath as wm
 from planner.kinds import Part
 from planner.kinds.spares_pool import advice
 from planner.kinds.spares_pool.params import SparesPoolParams
-from planner.kinds.spares_pool.words import PER_YEAR, count, duration, per, share, unit_name
+from planner.pool_words import PER_YEAR, count, duration, meets_availability, per, share, unit_name
 from walkmath.sparesizing import MOST_EXTRA, PoolSizing
 from walkmath.uniformization import PassageCurve
 
@@ -78,7 +78,7 @@ class SparesResult:
 
     @property
     def meets_availability(self) -> bool:
-        return _meets_availability(self.availability, self.unavailability, self.availability_target)
+        return meets_availability(self.availability, self.unavailability, self.availability_target)
 
     @property
     def meets_risk(self) -> bool:
@@ -189,11 +189,6 @@ class SparesResult:
     @property
     def shortages_per_year(self) -> float:
         return self.shortage_frequency * PER_YEAR[self.unit]
-
-
-def _meets_availability(availability: float, unavailability: float, target: float) -> bool:
-    """Read on the accurate side: 1 - target is exact for a target of 1/2 or more (Sterbenz's lemma)."""
-    return unavailability <= 1.0 - target if target >= 0.5 else availability >= target
 
 
 class SparesJob:

@@ -18,7 +18,8 @@ from planner.kinds.spares_pool.params import (
     MAX_UNITS,
     SparesPoolParams,
 )
-from planner.kinds.spares_pool.words import STANDBY_KINDS, TIME_UNITS, unit_name
+from planner.kinds.spares_pool.words import STANDBY_KINDS
+from planner.pool_words import TIME_UNITS, unit_name
 
 # The model keeps an overflow target for every scenario; a spares pool has nothing to overflow.
 UNUSED_OVERFLOW_TARGET = 0.05
