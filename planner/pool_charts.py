@@ -2,8 +2,8 @@
 mission, the units failed over the mission, and the risk by units already failed at the start.
 
 Plotly JSON dicts, each with a one-sentence text alternative and the CSV table holding its numbers
-(``planner.pool_tables``). Kinds pass the engine's figures in (``walkmath.FailedLaw``, the mission
-``PassageCurve``) with their own words; this module never learns a kind's parameters.
+(``planner.pool_tables``). Each reads a kind's result through the names ``planner.pool_result``
+lists; this module never learns a kind's parameters.
 """
 
 from __future__ import annotations
@@ -11,21 +11,20 @@ from __future__ import annotations
 import numpy as np
 
 from planner.chart_layout import (
-    LEVEL_SCALE,
     OVERFLOW,
     STOCKOUT,
     add_hline,
     as_list,
+    heatmap,
     layout,
     line,
     log_range,
     target_line,
 )
 from planner.formatting import probability
-from planner.pool_words import count, unit_name
+from planner.pool_words import count
 
 HEATMAP_FLOOR = 1e-9  # numbers failed never reaching this probability are trimmed from the heat map
-ALL_WORKING = "Starting with every unit in working order"
 
 
 def chart(figure: dict, summary: str, table: str) -> dict:
@@ -38,68 +37,60 @@ def whole_numbers(fig: dict, counts) -> None:
         fig["layout"]["xaxis"]["dtick"] = 1
 
 
-def mission_chart(*, times, mission, law, risk_target: float, unit: str, span: str, start: str = ALL_WORKING) -> dict:
+def mission_chart(result) -> dict:
     """Chance of at least one shortage by each time of the mission (``mission.reached``), and of being
-    short at that time (``law.shortage``), with the target; ``start`` says how the mission starts."""
+    short at that time (``failed_law.shortage``), with the target."""
+    times, mission, law, target = result.times, result.mission, result.failed_law, result.risk_target
     fig = {
         "data": [
             line(times, mission.reached, "at least one shortage by then", STOCKOUT, hover=probability),
             line(times, law.shortage, "short at that time", OVERFLOW, width=2, dash="dash", hover=probability),
-            target_line(times, risk_target, "mission target"),
+            target_line(times, target, "mission target"),
         ],
         "layout": layout(
             "Chance of a shortage during the mission",
-            unit_name(unit, 2),
+            result.unit_many,
             "probability",
             log_switch=True,
-            y_range=log_range(mission.reached, law.shortage, [risk_target]),
+            y_range=log_range(mission.reached, law.shortage, [target]),
         ),
     }
     summary = (
-        f"{start}, the chance of at least one shortage rises to {probability(float(mission.reached[-1]))} over a "
-        f"mission of {span} (target {probability(risk_target)})."
+        f"Starting with {result.start_words}, the chance of at least one shortage rises to "
+        f"{probability(result.mission_risk)} over a mission of {result.span} (target {probability(target)})."
     )
     return chart(fig, summary, "mission-risk")
 
 
-def failed_chart(*, law, unit: str, span: str, shortage_at: int, shortage_words: str) -> dict:
-    """Heat map of P(k units failed at time t) over the mission, with the line where shortages start.
-
-    ``shortage_words`` says in the kind's terms when the pool is short ('more than 2 spares failed').
-    """
+def failed_chart(result) -> dict:
+    """Heat map of P(k units failed at time t) over the mission, with the line where shortages start."""
+    law, many = result.failed_law, result.unit_many
     probs = law.probs
     keep = np.flatnonzero(probs.max(axis=0) >= HEATMAP_FLOOR)
     rows = slice(0, int(keep[-1]) + 1 if keep.size else probs.shape[1])
     shown = probs[:, rows]
     positive = shown[shown > 0]
     top = float(np.quantile(positive, 0.99)) if positive.size else 1.0
-    heat = {
-        "type": "heatmap",
-        "x": as_list(law.times),
-        "y": as_list(law.failed[rows]),
-        "z": as_list(shown.T),
-        "colorscale": LEVEL_SCALE,
-        "zmin": 0,
-        "zmax": top,
-        "colorbar": {"title": {"text": "probability"}, "thickness": 12},
-        "hovertemplate": f"%{{x:.4g}} {unit_name(unit, 2)}<br>%{{y}} failed<br>P = %{{z:.3g}}<extra></extra>",
-    }
-    fig = {"data": [heat], "layout": layout("Units failed over the mission", unit_name(unit, 2), "units failed")}
+    hover = f"%{{x:.4g}} {many}<br>%{{y}} failed<br>P = %{{z:.3g}}<extra></extra>"
+    heat = heatmap(law.times, law.failed[rows], as_list(shown.T), top=top, hover=hover)
+    fig = {"data": [heat], "layout": layout("Units failed over the mission", many, "units failed")}
     fig["layout"]["hovermode"] = "closest"
     if rows.stop <= 21:
         fig["layout"]["yaxis"]["dtick"] = 1
-    add_hline(fig, shortage_at - 0.5, "shortage above", STOCKOUT)
+    add_hline(fig, result.shortage_at - 0.5, "shortage above", STOCKOUT)
     likely = int(np.argmax(probs[-1]))
     summary = (
-        f"At the end of a mission of {span} the most likely number failed is {likely}; a shortage ({shortage_words}) "
+        f"At the end of a mission of {result.span} the most likely number failed is {likely}; a shortage "
+        f"({result.shortage_words}) "
         f"has probability {probability(law.shortage[-1])} at that time."
     )
     return chart(fig, summary, "failed-by-time")
 
 
-def start_chart(*, by_start: dict | None, risk_target: float, span: str) -> dict:
+def start_chart(result) -> dict:
     """Mission shortage risk by the number of units already failed when the mission starts
     (``by_start``: {"failed", "risk", ...} arrays; None when the request left it out)."""
+    by_start, risk_target, span = result.by_start, result.risk_target, result.span
     fig = {
         "data": [],
         "layout": layout(

@@ -15,10 +15,11 @@ import numpy as np
 import walkmath as wm
 from planner.formatting import number, probability
 from planner.kinds import Kind, Part, register
-from planner.kinds.rate_table import charts, tables
+from planner.kinds.rate_table import charts
 from planner.kinds.rate_table.compute import RateTableJob
 from planner.kinds.rate_table.forms import RateTableForm, TableFields, WhatIfForm, form_initial
 from planner.kinds.rate_table.params import RateTableParams
+from planner.kinds.rate_table.tables import TABLES, rows
 from planner.kinds.rate_table.whatif import apply_changes, describe_changes
 from planner.pool_words import share
 from walkmath.pools import LONG_RUN_FIXED, LONG_RUN_UNITS
@@ -35,43 +36,25 @@ class RateTableKind(Kind):
     whatif_template = "planner/kinds/rate_table/whatif.html"
     caution_template = "planner/kinds/rate_table/cautions.html"
     preview_waiting = "Fill in the table and the shortage level to see how many units are typically failed."
-    tables = tables.TABLES
+    tables = TABLES
 
-    def params_from_json(self, data):
-        return RateTableParams.from_json(data)
-
-    def scenario_form(self, data=None, *, initial=None):
-        return RateTableForm(data, initial=initial)
-
-    def form_initial(self, params):
-        return form_initial(params)
-
-    def changes_form(self, data):
-        return WhatIfForm(data)
-
-    def apply_changes(self, params, changes):
-        return apply_changes(params, changes)
-
-    def describe_changes(self, saved, variant):
-        return describe_changes(saved, variant)
-
-    def prepare(self, params, stockout_target, overflow_target):
-        return RateTableJob(params, stockout_target, overflow_target)
-
-    def figures(self, result):
-        return charts.charts_for(result)
-
-    def table_rows(self, result, table):
-        return tables.ROWS[table](result)
+    # The shared plumbing's calls, answered by this package's own functions and classes.
+    params_from_json = staticmethod(RateTableParams.from_json)
+    scenario_form = staticmethod(RateTableForm)
+    form_initial = staticmethod(form_initial)
+    changes_form = staticmethod(WhatIfForm)
+    apply_changes = staticmethod(apply_changes)
+    describe_changes = staticmethod(describe_changes)
+    prepare = staticmethod(RateTableJob)
+    figures = staticmethod(charts.charts_for)
+    table_rows = staticmethod(rows)
+    preview_form = staticmethod(TableFields)
 
     def sample_changes(self, params) -> list[dict]:
         """One unit fewer failed at the start, as saved and one more (below the shortage level)."""
         start = params.start_failed
         values = {max(0, start - 1), start, min(start + 1, params.shortage_at - 1)}
         return [{"start_failed": value} for value in sorted(values)]
-
-    def preview_form(self, data):
-        return TableFields(data)
 
     def preview_parts(self, form) -> list[Part]:
         """The preview is the long-run law of the number failed: priced as the pool's long-run figures."""

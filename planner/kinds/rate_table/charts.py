@@ -15,19 +15,6 @@ from planner.pool_charts import chart, whole_numbers
 from planner.pool_words import share
 
 
-def mission_chart(result: RateTableResult) -> dict:
-    """Chance of at least one shortage by each time of the mission, and of being short at that time."""
-    return pool_charts.mission_chart(
-        times=result.times,
-        mission=result.mission,
-        law=result.failed_law,
-        risk_target=result.risk_target,
-        unit=result.unit,
-        span=result.span,
-        start=f"Starting with {result.start_words}",
-    )
-
-
 def long_run_chart(result: RateTableResult) -> dict:
     """The long-run share of time at each number failed, the shortage levels in their own colour."""
     params, law = result.params, result.long_run_law
@@ -63,18 +50,6 @@ def long_run_chart(result: RateTableResult) -> dict:
         "average."
     )
     return chart(fig, summary, "by-failed")
-
-
-def failed_chart(result: RateTableResult) -> dict:
-    """Heat map of P(k units failed at time t) over the mission, with the shortage line."""
-    shortage_at = result.params.shortage_at
-    return pool_charts.failed_chart(
-        law=result.failed_law,
-        unit=result.unit,
-        span=result.span,
-        shortage_at=shortage_at,
-        shortage_words=f"{shortage_at} or more failed",
-    )
 
 
 def speed_chart(result: RateTableResult) -> dict:
@@ -122,20 +97,12 @@ def speed_chart(result: RateTableResult) -> dict:
     return chart(fig, f"{summary}{now}.", "by-repair-speed")
 
 
-def start_chart(result: RateTableResult) -> dict:
-    """Mission shortage risk by the number of units already failed when the mission starts."""
-    return pool_charts.start_chart(by_start=result.by_start, risk_target=result.risk_target, span=result.span)
-
-
-CHARTS = {
-    "mission": mission_chart,
-    "long_run": long_run_chart,
-    "failed": failed_chart,
-    "repair_speed": speed_chart,
-    "start": start_chart,
-}
-
-
 def charts_for(result: RateTableResult) -> dict[str, dict]:
-    """Every chart: ``{"figure": {"data", "layout"}, "summary": str, "table": csv slug}``."""
-    return {name: build(result) for name, build in CHARTS.items()}
+    """Every chart in page order: ``{"figure": {"data", "layout"}, "summary": str, "table": csv slug}``."""
+    return {
+        "mission": pool_charts.mission_chart(result),
+        "long_run": long_run_chart(result),
+        "failed": pool_charts.failed_chart(result),
+        "repair_speed": speed_chart(result),
+        "start": pool_charts.start_chart(result),
+    }

@@ -1,9 +1,8 @@
-"""Run a rate-table pool through walkmath and gather every number its page shows.
+"""A rate-table pool's job and result: the figures every pool shows (``planner.pool_job``) and this
+kind's own, the long-run law by number failed and the figures at a ladder of repair speeds.
 
-Reads only; no database. The job builds the pool once; ``parts`` prices every engine call with the
-engine's cost model (``RatePool.cost``) before any of them runs, and ``run`` makes only the calls
-the read service allowed. Charts, headline figures and CSV files all read the same
-``RateTableResult``, so a download always matches what is on screen.
+The pool is built once from the table; every engine call is priced before it runs, and the page,
+its what-ifs and its CSV files all read one ``RateTableResult``.
 """
 
 from __future__ import annotations
@@ -17,13 +16,10 @@ from planner.formatting import number
 from planner.kinds import Part
 from planner.kinds.rate_table import advice
 from planner.kinds.rate_table.params import RateTableParams
-from planner.pool_words import PER_YEAR, count, duration, meets_availability, share, unit_name
-from walkmath.uniformization import PassageCurve
+from planner.pool_job import BY_START_LEFT_OUT, PoolJob
+from planner.pool_result import PoolResult
+from planner.pool_words import count, meets_availability
 
-# Points on the mission curves and the failed-unit law: the start and 40 equal steps to the end.
-MISSION_STEPS = 40
-# Most starting numbers failed the risk-by-start table works out (0 .. this - 1, below the shortage level).
-MAX_STARTS = 25
 # Repair speeds tried, as multiples of every repair rate in the table (1: as tabled).
 REPAIR_SPEEDS = (0.25, 0.5, 0.75, 1.0, 1.25, 1.5, 2.0, 3.0, 4.0, 6.0, 8.0, 10.0)
 
@@ -50,48 +46,12 @@ class SpeedCurve:
 
 
 @dataclass(frozen=True, eq=False)
-class RateTableResult:
-    params: RateTableParams
-    risk_target: float
+class RateTableResult(PoolResult):
     pool: wm.RatePool
-    availability: float
-    unavailability: float
-    long_run_law: np.ndarray
+    long_run_law: np.ndarray  # the long-run share of time at each number failed
     expected_failed: float
-    shortage_frequency: float
-    mean_shortage_duration: float
-    mean_time_to_shortage: float
-    times: np.ndarray
-    mission: PassageCurve  # over ``times``: .reached (shortage by then), .not_reached
-    failed_law: wm.FailedLaw
-    time_split: wm.TimeSplit
-    by_start: dict | None  # {"failed", "risk", "safe", "mean_time"} arrays; None when left out
     speeds: SpeedCurve | None  # None when not even the first speed fitted this request
     left_out: tuple[str, ...] = field(default=())
-
-    @property
-    def unit(self) -> str:
-        return self.params.time_unit
-
-    @property
-    def mission_risk(self) -> float:
-        return float(self.mission.reached[-1])
-
-    @property
-    def mission_safe(self) -> float:
-        return float(self.mission.not_reached[-1])
-
-    @property
-    def availability_target(self) -> float:
-        return self.params.availability_target
-
-    @property
-    def meets_availability(self) -> bool:
-        return meets_availability(self.availability, self.unavailability, self.availability_target)
-
-    @property
-    def meets_risk(self) -> bool:
-        return self.mission_risk <= self.risk_target
 
     @property
     def speed_needed(self) -> float | None:
@@ -115,18 +75,18 @@ class RateTableResult:
     # -- the same in words, for the headline ---------------------------------------------------------
 
     @property
-    def span(self) -> str:
-        return duration(self.params.mission, self.unit)
+    def shortage_at(self) -> int:
+        return self.params.shortage_at
+
+    @property
+    def shortage_words(self) -> str:
+        return f"{self.params.shortage_at} or more failed"
 
     @property
     def start_words(self) -> str:
         """'every unit in working order' or '1 unit failed'."""
         start = self.params.start_failed
         return "every unit in working order" if start == 0 else f"{count(start, 'unit')} already failed"
-
-    @property
-    def unit_many(self) -> str:
-        return unit_name(self.unit, 2)
 
     @property
     def speeds_note(self) -> str:
@@ -138,40 +98,14 @@ class RateTableResult:
         reach = "" if curve.complete else " (as far as worked out)"
         return f"the slowest of {tried} times the table's repair rates{reach}"
 
-    @property
-    def availability_words(self) -> str:
-        return share(self.availability)
 
-    @property
-    def availability_target_words(self) -> str:
-        return share(self.availability_target)
-
-    @property
-    def mttf_words(self) -> str:
-        return duration(self.mean_time_to_shortage, self.unit)
-
-    @property
-    def duration_words(self) -> str:
-        return duration(self.mean_shortage_duration, self.unit)
-
-    @property
-    def time_short_words(self) -> str:
-        return duration(self.time_split.short, self.unit)
-
-    @property
-    def shortages_per_year(self) -> float:
-        return self.shortage_frequency * PER_YEAR[self.unit]
-
-
-class RateTableJob:
+class RateTableJob(PoolJob):
     """One request's work on one pool: the pool built once, each engine call priced first."""
 
     def __init__(self, params: RateTableParams, risk_target: float, overflow_target: float = 0.05):
-        self.params = params
-        self.risk_target = risk_target
-        self.pool = params.pool()
-        self.times = np.linspace(0.0, params.mission, MISSION_STEPS + 1)
-        self.starts = np.arange(min(params.shortage_at, MAX_STARTS))
+        super().__init__(params, risk_target, params.pool(), start=params.start_failed)
+        self.pool = self.rates
+        self.size_words = f"{params.top + 1:,} rows"
 
     def _speed_price(self, speed: float) -> int:
         """Price of one repair speed's figures: its long-run figures and its mission risk."""
@@ -179,79 +113,26 @@ class RateTableJob:
         return pool.cost("long_run").units + pool.cost("shortage_curve", times=self.params.mission).units
 
     def parts(self) -> list[Part]:
-        """Every engine call the page makes, priced by ``RatePool.cost``.
-
-        The risk by units failed at the start is optional at its fixed price; the figures by repair
-        speed stop themselves at their budget, slowest speed first.
-        """
-        pool, mission = self.pool, self.params.mission
-        one_start = pool.cost("shortage_curve", times=mission).units + pool.cost("mean_time").units
-        return [
-            Part("long_run", pool.cost("long_run").units + 2 * pool.cost("mean_time").units),
-            Part("mission", pool.cost("shortage_curve", times=self.times).units),
-            Part("failed_law", pool.cost("failed_law", times=self.times).units),
-            Part("shortage_time", pool.cost("shortage_time", times=mission).units),
-            Part("by_start", len(self.starts) * one_start, required=False),
-            Part("speeds", sum(self._speed_price(speed) for speed in REPAIR_SPEEDS), required=False, stops_itself=True),
-        ]
-
-    def refusal(self, units: int, cap: int) -> str:
-        """Why the page is refused, in the planner's words, naming what to change."""
-        events = self.pool.chain.uniformization_rate * self.params.mission
-        return (
-            f"This pool is too large to work out in one request: {self.params.top + 1:,} rows, with up to about "
-            f"{number(events)} failures and repairs within a mission of {self.span_words()} (about "
-            f"{number(units / cap)} times this server's limit). To fit, shorten the mission or plan the pool in "
-            "smaller groups."
-        )
-
-    def span_words(self) -> str:
-        return duration(self.params.mission, self.params.time_unit)
-
-    def headline(self) -> tuple[float, str]:
-        """The shortage risk over the mission from its start (one sweep), stored with the pool."""
-        risk, _ = self.pool.shortage_split(self.params.mission, failed=self.params.start_failed)
-        return risk, self.span_words()
+        """Every engine call the page makes, priced by ``RatePool.cost`` (``PoolJob.shared_parts``),
+        then the figures by repair speed, which stop themselves at their budget, slowest speed first."""
+        speeds = sum(self._speed_price(speed) for speed in REPAIR_SPEEDS)
+        return [*self.shared_parts(), Part("speeds", speeds, required=False, stops_itself=True)]
 
     def run(self, allowed: dict[str, int]) -> RateTableResult:
         """Every figure of the page; optional parts not in ``allowed`` are left out with a note."""
-        params, pool, start = self.params, self.pool, self.params.start_failed
-        left_out = []
-        by_start = self._by_start() if "by_start" in allowed else None
-        if by_start is None:
-            left_out.append("the mission risk by units already failed at the start (too much work for one request)")
+        shared = self.shared_figures(allowed)
         speeds = self._speeds(allowed.get("speeds", 0))
+        left_out = [BY_START_LEFT_OUT] if shared["by_start"] is None else []
         if speeds is None or not speeds.complete:
             left_out.append("part of the figures by repair speed (too much work for one request)")
-        availability, unavailability = pool.availability_split()
         return RateTableResult(
-            params=params,
-            risk_target=self.risk_target,
-            pool=pool,
-            availability=availability,
-            unavailability=unavailability,
-            long_run_law=pool.long_run_law(),
-            expected_failed=pool.expected_failed(),
-            shortage_frequency=pool.shortage_frequency(),
-            mean_shortage_duration=pool.mean_shortage_duration(),
-            mean_time_to_shortage=pool.mean_time_to_shortage(start),
-            times=self.times,
-            mission=pool.mission_curves(self.times, start),
-            failed_law=pool.failed_law(self.times, start),
-            time_split=pool.shortage_time(params.mission, start),
-            by_start=by_start,
+            **shared,
+            pool=self.pool,
+            long_run_law=self.pool.long_run_law(),
+            expected_failed=self.pool.expected_failed(),
             speeds=speeds,
             left_out=tuple(left_out),
         )
-
-    def _by_start(self) -> dict:
-        risk, safe, mean_time = [], [], []
-        for failed in self.starts.tolist():
-            shortage, no_shortage = self.pool.shortage_split(self.params.mission, failed=failed)
-            risk.append(shortage)
-            safe.append(no_shortage)
-            mean_time.append(self.pool.mean_time_to_shortage(failed=failed))
-        return {"failed": self.starts, "risk": np.array(risk), "safe": np.array(safe), "mean_time": np.array(mean_time)}
 
     def _speeds(self, budget: int) -> SpeedCurve | None:
         """Figures at each repair speed, slowest first, each priced before it runs, while ``budget`` lasts."""

@@ -13,13 +13,10 @@ import re
 
 from django import forms
 
-from planner.form_fields import PercentField
-from planner.forms import ScenarioFields
+from planner.form_fields import PoolTimeUnit, add_parameter_error, mission_field
+from planner.forms import PoolTargets
 from planner.kinds.rate_table.params import MAX_MISSION, MAX_ROWS, TABLE, RateTableParams, rate_text, table_problems
-from planner.pool_words import TIME_UNITS, unit_name
 
-# The model keeps an overflow target for every scenario; a pool has nothing to overflow.
-UNUSED_OVERFLOW_TARGET = 0.05
 ROW = re.compile(r"^\s*(\d+)\s*[:=]\s*([^\s,]+)\s*(?:,\s*|\s+)([^\s,]+)\s*$")
 EXAMPLE = "'2: 0.006, 0.25'"
 # Most unreadable lines named one by one; the rest are counted.
@@ -35,10 +32,6 @@ MESSAGE_FIELDS = [
 ]
 PARAMETER_FIELDS = ("shortage_at", "start_failed", "mission", "availability_target")
 NEUTRAL = {"failure_rates": (1.0, 0.0), "repair_rates": (0.0, 1.0), "shortage_at": 1, "mission": 1.0}
-
-
-def _unit_words(text: str, unit: str) -> str:
-    return text.format(one=unit_name(unit), many=unit_name(unit, 2))
 
 
 def _rate(text: str) -> float | None:
@@ -87,16 +80,9 @@ def format_rate_table(failure_rates, repair_rates) -> str:
     )
 
 
-class TableFields(forms.Form):
+class TableFields(PoolTimeUnit):
     """The pool itself; also the live preview's form."""
 
-    time_unit = forms.ChoiceField(
-        label="Time unit",
-        choices=[(key, many.capitalize()) for key, (_, many) in TIME_UNITS.items()],
-        initial="hour",
-        required=False,
-        help_text="Every time and rate of this pool is counted in it.",
-    )
     rates = forms.CharField(
         label="Failures and repairs by number failed (per {one}, whole pool)",
         widget=forms.Textarea(attrs={"rows": 7, "spellcheck": "false", "autocapitalize": "off"}),
@@ -112,20 +98,6 @@ class TableFields(forms.Form):
         min_value=1,
         help_text="E.g. 2 when 3 of 4 units must run.",
     )
-
-    def __init__(self, *args, **kwargs):
-        super().__init__(*args, **kwargs)
-        unit = self.data.get("time_unit") if self.is_bound else self.initial.get("time_unit")
-        unit = unit if isinstance(unit, str) and unit in TIME_UNITS else "hour"
-        self.pool_unit = unit
-        for field in self.fields.values():
-            if field.label:
-                field.label = _unit_words(str(field.label), unit)
-            if field.help_text:
-                field.help_text = _unit_words(str(field.help_text), unit)
-
-    def clean_time_unit(self):
-        return self.cleaned_data["time_unit"] or "hour"
 
     def clean_rates(self):
         return parse_rate_table(self.cleaned_data["rates"])
@@ -163,14 +135,11 @@ class TableFields(forms.Form):
         try:
             return RateTableParams(**(NEUTRAL | values))
         except ValueError as exc:
-            message = str(exc)
-            name = next((field for prefix, field in MESSAGE_FIELDS if message.startswith(prefix)), "rates")
-            if name not in self.errors:
-                self.add_error(name if name in self.fields else None, message)
+            add_parameter_error(self, str(exc), MESSAGE_FIELDS, "rates")
             return None
 
 
-class RateTableForm(ScenarioFields, TableFields):
+class RateTableForm(PoolTargets, TableFields):
     field_order = ["title", "notes", "time_unit", "rates", "shortage_at"]
 
     start_failed = forms.IntegerField(
@@ -180,30 +149,11 @@ class RateTableForm(ScenarioFields, TableFields):
         initial=0,
         help_text="Usually 0: every unit in working order.",
     )
-    mission = forms.FloatField(
-        label="Mission length ({many})",
-        help_text=f"The time the shortage risk is counted over (at most {MAX_MISSION:,.0f}).",
-    )
-    availability_target = PercentField(
-        label="Availability target (%)",
-        initial=0.999,
-        help_text="Smallest acceptable long-run share of time not short, e.g. 99.9.",
-    )
-    stockout_target = PercentField(
-        label="Mission shortage target (%)",
-        initial=0.01,
-        help_text="Largest acceptable chance of at least one shortage during the mission, e.g. 1 or 0.1 %.",
-    )
-    overflow_target = None
+    mission = mission_field(MAX_MISSION)
 
     def clean_start_failed(self):
         value = self.cleaned_data["start_failed"]
         return 0 if value is None else value
-
-    def clean(self):
-        data = super().clean()
-        data["overflow_target"] = UNUSED_OVERFLOW_TARGET
-        return data
 
 
 def form_initial(params: RateTableParams) -> dict:

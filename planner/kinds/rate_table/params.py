@@ -18,6 +18,7 @@ import dataclasses
 from dataclasses import dataclass
 
 import walkmath as wm
+from planner.params_json import saved_fields
 from planner.pool_words import TIME_UNITS, unit_name
 from walkmath import checks
 
@@ -141,16 +142,7 @@ class RateTableParams:
     @classmethod
     def from_json(cls, data: dict) -> RateTableParams:
         """Parameters from the model's JSON; ValueError naming what is wrong."""
-        if not isinstance(data, dict):
-            raise ValueError("parameters must be an object")
-        known = {field.name for field in dataclasses.fields(cls)}
-        unknown = sorted(set(data) - known)
-        if unknown:
-            raise ValueError(f"parameters has unknown keys: {', '.join(unknown)}")
-        for name in ("failure_rates", "repair_rates", "shortage_at", "mission"):
-            if name not in data:
-                raise ValueError(f"parameters must include {name}")
-        return cls(**data)
+        return cls(**saved_fields(cls, data, ("failure_rates", "repair_rates", "shortage_at", "mission")))
 
 
 def _readable(rate) -> bool:

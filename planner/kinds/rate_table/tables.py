@@ -43,33 +43,20 @@ def speed_rows(result: RateTableResult):
     curve = result.speeds
     if curve is None:
         return
-    for index, speed in enumerate(curve.speeds):
-        yield [
-            None,
-            number(speed),
-            number(curve.availability[index]),
-            number(curve.unavailability[index]),
-            number(curve.risk[index]),
-            number(curve.safe[index]),
-        ]
-
-
-def mission_rows(result: RateTableResult):
-    return pool_tables.mission_rows(times=result.times, mission=result.mission, law=result.failed_law, unit=result.unit)
-
-
-def failed_rows(result: RateTableResult):
-    return pool_tables.failed_rows(law=result.failed_law, unit=result.unit)
-
-
-def by_start_rows(result: RateTableResult):
-    return pool_tables.by_start_rows(by_start=result.by_start, unit=result.unit)
+    columns = (curve.speeds, curve.availability, curve.unavailability, curve.risk, curve.safe)
+    for values in zip(*columns, strict=True):
+        yield [None, *(number(value) for value in values)]
 
 
 ROWS = {
     "by-failed": by_failed_rows,
-    "mission-risk": mission_rows,
-    "failed-by-time": failed_rows,
+    "mission-risk": pool_tables.mission_rows,
+    "failed-by-time": pool_tables.failed_rows,
     "by-repair-speed": speed_rows,
-    "risk-by-failed-at-start": by_start_rows,
+    "risk-by-failed-at-start": pool_tables.by_start_rows,
 }
+
+
+def rows(result: RateTableResult, table: str):
+    """Header row then data rows of the table ``table`` (one of ``TABLES``)."""
+    return ROWS[table](result)

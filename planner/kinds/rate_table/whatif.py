@@ -44,13 +44,16 @@ def _scaling(what: str, saved: tuple[float, ...], variant: tuple[float, ...]) ->
 
 def describe_changes(saved: RateTableParams, variant: RateTableParams) -> list[str]:
     """The inputs of ``variant`` that differ from ``saved``: 'repair rates × 1.5', 'mission 720 hours → 360 hours'."""
+    unit = saved.time_unit
+    inputs = [
+        ("mission", "mission", lambda value: duration(value, unit)),
+        ("units failed at the start", "start_failed", number),
+        ("short at", "shortage_at", lambda value: f"{number(value)} or more failed"),
+    ]
     lines = _scaling("failure rates", saved.failure_rates, variant.failure_rates)
     lines += _scaling("repair rates", saved.repair_rates, variant.repair_rates)
-    if variant.mission != saved.mission:
-        unit = saved.time_unit
-        lines.append(f"mission {duration(saved.mission, unit)} → {duration(variant.mission, unit)}")
-    if variant.start_failed != saved.start_failed:
-        lines.append(f"units failed at the start {number(saved.start_failed)} → {number(variant.start_failed)}")
-    if variant.shortage_at != saved.shortage_at:
-        lines.append(f"short at {number(saved.shortage_at)} or more failed → {number(variant.shortage_at)} or more")
+    for words, name, say in inputs:
+        old, new = getattr(saved, name), getattr(variant, name)
+        if old != new:
+            lines.append(f"{words} {say(old)} → {say(new)}")
     return lines

@@ -175,42 +175,13 @@ def crews_chart(result: SparesResult) -> dict:
     return chart(fig, f"{summary} (now {count(params.crews, 'crew')}).", "by-crews")
 
 
-def mission_chart(result: SparesResult) -> dict:
-    """Chance of at least one shortage by each time of the mission, and of being short at that time."""
-    return pool_charts.mission_chart(
-        times=result.times,
-        mission=result.mission,
-        law=result.failed_law,
-        risk_target=result.risk_target,
-        unit=result.unit,
-        span=result.span,
-    )
-
-
-def failed_chart(result: SparesResult) -> dict:
-    """Heat map of P(k units failed at time t) over the mission, with the shortage line."""
-    spares = result.params.spares
-    return pool_charts.failed_chart(
-        law=result.failed_law,
-        unit=result.unit,
-        span=result.span,
-        shortage_at=spares + 1,
-        shortage_words=f"more than {count(spares, 'spare')} failed",
-    )
-
-
-def start_chart(result: SparesResult) -> dict:
-    """Mission shortage risk by the number of units already failed when the mission starts."""
-    return pool_charts.start_chart(by_start=result.by_start, risk_target=result.risk_target, span=result.span)
-
-
 CHARTS = {
     "availability": availability_chart,
-    "mission": mission_chart,
+    "mission": pool_charts.mission_chart,
     "spares_risk": spares_risk_chart,
-    "failed": failed_chart,
+    "failed": pool_charts.failed_chart,
     "crews": crews_chart,
-    "start": start_chart,
+    "start": pool_charts.start_chart,
 }
 
 

@@ -70,22 +70,10 @@ def by_crews_rows(result: SparesResult):
         ]
 
 
-def mission_rows(result: SparesResult):
-    return pool_tables.mission_rows(times=result.times, mission=result.mission, law=result.failed_law, unit=result.unit)
-
-
-def failed_rows(result: SparesResult):
-    return pool_tables.failed_rows(law=result.failed_law, unit=result.unit)
-
-
-def by_start_rows(result: SparesResult):
-    return pool_tables.by_start_rows(by_start=result.by_start, unit=result.unit)
-
-
 ROWS = {
     "by-spares": by_spares_rows,
     "by-crews": by_crews_rows,
-    "mission-risk": mission_rows,
-    "failed-by-time": failed_rows,
-    "risk-by-failed-at-start": by_start_rows,
+    "mission-risk": pool_tables.mission_rows,
+    "failed-by-time": pool_tables.failed_rows,
+    "risk-by-failed-at-start": pool_tables.by_start_rows,
 }

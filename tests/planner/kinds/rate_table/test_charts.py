@@ -7,19 +7,12 @@ import pytest
 from planner.formatting import probability
 from planner.kinds import get_kind
 from planner.kinds.rate_table.compute import RateTableJob
-from planner.kinds.rate_table.params import RateTableParams
+from tests.planner.kinds.rate_table.examples import MIXERS
 
 
 @pytest.fixture(scope="module")
 def result():
-    params = RateTableParams(
-        failure_rates=(0.006, 0.006, 0.006, 0.004, 0.0),
-        repair_rates=(0.0, 0.08, 0.05, 0.04, 0.04),
-        shortage_at=2,
-        mission=168.0,
-        availability_target=0.995,
-    )
-    job = RateTableJob(params, 0.05)
+    job = RateTableJob(MIXERS, 0.05)
     return job.run({part.name: part.units for part in job.parts()})
 
 

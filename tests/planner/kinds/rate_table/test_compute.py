@@ -10,7 +10,8 @@ import pytest
 from planner.kinds.rate_table.compute import REPAIR_SPEEDS, RateTableJob
 from planner.kinds.rate_table.forms import parse_rate_table
 from planner.kinds.rate_table.params import RateTableParams
-from tests.walkmath.exact import mp_generator, spares_pool_law
+from tests.planner.kinds.rate_table.examples import MIXERS
+from tests.walkmath.exact import mp_generator, solve_exact, spares_pool_law
 from walkmath import ComputeTooLarge, SparesPool
 
 
@@ -22,26 +23,18 @@ def run_all(params, risk_target):
 
 def exact_mean_times(failure, repair, shortage_at):
     """E[time to reach ``shortage_at``] from each level below it: the first-step equations
-    (b_k + d_k) m_k - b_k m_(k+1) - d_k m_(k-1) = 1, m_(shortage_at) = 0, solved in Fractions by
-    elimination (independent of the engine's passage recursion)."""
-    size = shortage_at
-    rows = [[Fraction(0)] * (size + 1) for _ in range(size)]
-    for k in range(size):
+    (b_k + d_k) m_k - b_k m_(k+1) - d_k m_(k-1) = 1, m_(shortage_at) = 0, solved in Fractions
+    (independent of the engine's passage recursion)."""
+    rows = [[Fraction(0)] * (shortage_at + 1) for _ in range(shortage_at)]
+    for k in range(shortage_at):
         up, down = Fraction(failure[k]), Fraction(repair[k]) if k > 0 else Fraction(0)
         rows[k][k] = up + down
-        if k + 1 < size:
+        if k + 1 < shortage_at:
             rows[k][k + 1] = -up
         if k > 0:
             rows[k][k - 1] = -down
-        rows[k][size] = Fraction(1)
-    for k in range(size):  # Gauss-Jordan, no pivoting needed: diagonally dominant
-        pivot = rows[k][k]
-        rows[k] = [value / pivot for value in rows[k]]
-        for other in range(size):
-            if other != k and rows[other][k] != 0:
-                factor = rows[other][k]
-                rows[other] = [a - factor * b for a, b in zip(rows[other], rows[k], strict=True)]
-    return [row[size] for row in rows]
+        rows[k][shortage_at] = Fraction(1)
+    return solve_exact(rows)
 
 
 def mp_mission_risk(pool, start, mission, dps=40):
@@ -168,14 +161,6 @@ def test_a_rare_shortage_keeps_its_relative_accuracy():
 
 
 # -- the page's own figures -----------------------------------------------------------------------
-
-MIXERS = RateTableParams(
-    failure_rates=(0.006, 0.006, 0.006, 0.004, 0.0),
-    repair_rates=(0.0, 0.08, 0.05, 0.04, 0.04),
-    shortage_at=2,
-    mission=168.0,
-    availability_target=0.995,
-)
 
 
 def test_figures_by_repair_speed_are_monotone_and_the_recommendation_is_the_slowest_meeting_both():

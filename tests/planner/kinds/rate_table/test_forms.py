@@ -1,8 +1,11 @@
 """Rate-table forms: every line that does not read and every broken rule named at once; nothing saved or computed."""
 
+from fractions import Fraction
+
 import pytest
 from django.urls import reverse
 
+from planner.formatting import probability
 from planner.forms import scenario_initial
 from planner.kinds import get_kind
 from planner.kinds.rate_table.forms import RateTableForm, TableFields, WhatIfForm, parse_rate_table
@@ -14,19 +17,18 @@ NEW = reverse("scenario_new_kind", kwargs={"kind": "rate_table"})
 PREVIEW = reverse("kind_preview", kwargs={"kind": "rate_table"})
 TABLE = "0: 0.006, 0\n1: 0.006, 0.08\n2: 0.006, 0.05\n3: 0.004, 0.04\n4: 0, 0.04"
 GOOD = {
-    "title": "Dough mixers",
-    "notes": "",
-    "time_unit": "hour",
     "rates": TABLE,
     "shortage_at": "2",
     "start_failed": "0",
     "mission": "168",
     "availability_target": "99.5",
     "stockout_target": "5 %",
+    "title": "Dough mixers",
+    "notes": "",
+    "time_unit": "hour",
 }
 
 BAD = [
-    ({"title": ""}, "title", "This field is required."),
     ({"rates": ""}, "rates", "This field is required."),
     ({"rates": "0: 0.006\n1: 0, 0.08"}, "rates", "Line 1 ('0: 0.006'): write each row as 'failed: failure rate,"),
     ({"rates": "0: 0.006, 0\n2: 0, 0.08"}, "rates", "Line 2 ('2: 0, 0.08') is for 2 failed; the rows count"),
@@ -41,6 +43,7 @@ BAD = [
     ({"availability_target": "100"}, "availability_target", "Give a percentage above 0 and below 100"),
     ({"stockout_target": "ten"}, "stockout_target", "Give a percentage"),
     ({"time_unit": "fortnight"}, "time_unit", "Select a valid choice."),
+    ({"title": ""}, "title", "This field is required."),
 ]
 
 
@@ -108,21 +111,27 @@ def test_the_edit_form_starts_from_the_saved_table(client, owner):
     assert saved.status_code == 302 and Scenario.objects.get(pk=scenario.pk).params.shortage_at == 3
 
 
-def test_untouched_form_shows_no_error(client, owner):
+@pytest.mark.parametrize(
+    ("rates", "shortage_at", "expected"),
+    [
+        # one unit failing at 1/400 an hour, repaired at 1/10: available mu / (lambda + mu) = 400 / 410 of the
+        # time (common practice: a repairable unit's steady-state availability)
+        ("0: 0.0025, 0\n1: 0, 0.1", "1", [Fraction(400, 410), Fraction(10, 410)]),
+        # M/M/1/2 with lambda = 1/2, mu = 1: p_n proportional to (1/2)^n (from memory, the M/M/1/K form)
+        ("0: 0.5, 0\n1: 0.5, 1\n2: 0, 1", "2", [Fraction(4, 7), Fraction(2, 7), Fraction(1, 7)]),
+    ],
+)
+def test_an_untouched_form_waits_and_the_preview_shows_the_long_run_law(client, owner, rates, shortage_at, expected):
     client.force_login(owner)
     page = client.get(NEW).content.decode()
-    assert "field-error" not in page and "error-box" not in page
-    assert "Failures and repairs by number failed" in page and 'id="preview-chart"' in page
-
-
-def test_preview_shows_the_long_run_law_of_units_failed(client, owner):
-    # one unit, failing at rate 1/400 and repaired at rate 1/10: the two-state model, available
-    # mu / (lambda + mu) = 400 / 410 of the time (common practice: a repairable unit's steady-state availability)
-    client.force_login(owner)
-    body = client.get(PREVIEW, {"time_unit": "hour", "rates": "0: 0.0025, 0\n1: 0, 0.1", "shortage_at": "1"}).json()
-    assert body["ready"] and body["steps"] == [0, 1]
-    assert body["probs"] == pytest.approx([400 / 410, 10 / 410], rel=1e-14)
-    assert body["x_title"] == "units failed, in the long run" and "availability 97.6 %" in body["summary"]
+    assert "field-error" not in page and "error-box" not in page and 'id="preview-chart"' in page
+    body = client.get(PREVIEW, {"time_unit": "hour", "rates": rates, "shortage_at": shortage_at}).json()
+    assert body["ready"] and body["steps"] == list(range(len(expected)))
+    assert body["probs"] == pytest.approx([float(p) for p in expected], rel=1e-14)
+    short = sum(expected[int(shortage_at) :])
+    assert (
+        body["x_title"] == "units failed, in the long run" and f"short {probability(float(short))}" in body["summary"]
+    )
 
 
 def test_preview_waits_for_missing_inputs_and_names_a_bad_row(client, owner):
