@@ -14,6 +14,9 @@ from planner.kinds.rate_table.compute import RateTableResult
 from planner.pool_charts import chart, whole_numbers
 from planner.pool_words import share
 
+# Repair speeds labelled on the log axis (every speed tried has its marker).
+TICKED_SPEEDS = (0.25, 0.5, 1.0, 2.0, 4.0, 10.0)
+
 
 def long_run_chart(result: RateTableResult) -> dict:
     """The long-run share of time at each number failed, the shortage levels in their own colour."""
@@ -79,8 +82,9 @@ def speed_chart(result: RateTableResult) -> dict:
         target_line(speeds, target, "availability target", dash="dot"),
         target_line(speeds, result.risk_target, "mission target"),
     ]
-    fig["layout"]["xaxis"]["tickvals"] = as_list(speeds)
-    fig["layout"]["xaxis"]["ticktext"] = [number(speed) for speed in speeds.tolist()]
+    ticks = [speed for speed in speeds.tolist() if speed in TICKED_SPEEDS]  # the rest too close on a log axis
+    fig["layout"]["xaxis"]["tickvals"] = ticks
+    fig["layout"]["xaxis"]["ticktext"] = [number(speed) for speed in ticks]
     add_vline(fig, 1.0, "as tabled", INK)
     needed = result.speed_needed
     if needed is not None:

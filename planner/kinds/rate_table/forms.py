@@ -87,10 +87,10 @@ class TableFields(PoolTimeUnit):
         label="Failures and repairs by number failed (per {one}, whole pool)",
         widget=forms.Textarea(attrs={"rows": 7, "spellcheck": "false", "autocapitalize": "off"}),
         help_text=(
-            "One row per number failed, from 0 up to every unit failed: 'failed: failure rate, repair rate'. "
-            "The failure rate is how many failures a {one} to expect across the pool with that many failed "
-            "(four units each failing once in 500 {many}: 0.008); the repair rate, how many repairs finish a {one}. "
-            "The first row has no repairs (0) and the last no failures (0)."
+            "One row per number failed, from 0 up to every unit failed: 'failed: failure rate, repair rate', both "
+            "per {one} for the whole pool. With that many failed, the failure rate is how many failures to expect in "
+            "one {one} (four units each failing once in 500 {many}: 0.008), the repair rate how many repairs finish "
+            "in one {one}. The first row has no repairs (0) and the last no failures (0)."
         ),
     )
     shortage_at = forms.IntegerField(
