@@ -91,10 +91,22 @@ class PoolJob:
         }
 
     def _by_start(self) -> dict:
+        """The mission risk from each number failed at the start, each start on its own sweep.
+
+        One more unit failed at the start never lowers the risk (coupling: the chain started higher
+        stays at or above the other until they meet), so a running maximum (minimum for the no-shortage
+        side) removes rounding ripples and the curve is monotone by construction. The mean times are sums
+        over the levels still to climb, one term more for each unit fewer failed, so they never rise.
+        """
         risk, safe, mean_time = [], [], []
         for failed in self.starts.tolist():
             shortage, no_shortage = self.rates.shortage_split(self.params.mission, failed=failed)
             risk.append(shortage)
             safe.append(no_shortage)
             mean_time.append(self.rates.mean_time_to_shortage(failed=failed))
-        return {"failed": self.starts, "risk": np.array(risk), "safe": np.array(safe), "mean_time": np.array(mean_time)}
+        return {
+            "failed": self.starts,
+            "risk": np.maximum.accumulate(risk),
+            "safe": np.minimum.accumulate(safe),
+            "mean_time": np.array(mean_time),
+        }

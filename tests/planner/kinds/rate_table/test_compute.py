@@ -6,6 +6,8 @@ from math import factorial
 import mpmath
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from planner.kinds.rate_table.compute import REPAIR_SPEEDS, RateTableJob
 from planner.kinds.rate_table.forms import parse_rate_table
@@ -252,3 +254,47 @@ def test_a_pool_too_large_for_one_request_is_refused_in_the_planners_words():
     message = job.refusal(units, 1_200_000_000)
     assert "too large to work out in one request: 1,001 rows, with up to about 2 × 10¹³ failures" in message
     assert "shorten the mission" in message
+
+
+rates = st.floats(min_value=0.01, max_value=10.0, allow_nan=False)
+
+
+def columns(size: int):
+    return st.lists(rates, min_size=size, max_size=size)
+
+
+@settings(max_examples=40, deadline=None)
+@given(
+    table=st.integers(min_value=2, max_value=7).flatmap(lambda rows: st.tuples(*[columns(rows - 1)] * 2)),
+    data=st.data(),
+    mission=st.floats(min_value=0.01, max_value=50.0),
+)
+def test_any_small_table_gives_probabilities_and_monotone_curves(table, data, mission):
+    failure, repair = table
+    params = RateTableParams(
+        failure_rates=(*failure, 0.0),
+        repair_rates=(0.0, *repair),
+        shortage_at=data.draw(st.integers(min_value=1, max_value=len(failure))),
+        mission=mission,
+    )
+    result = run_all(params, 0.05)
+    for value in (result.availability, result.unavailability, result.mission_risk, result.mission_safe):
+        assert 0.0 <= value <= 1.0
+    assert abs(result.availability + result.unavailability - 1.0) <= 2**-52
+    assert (np.diff(result.mission.reached) >= 0).all() and (np.diff(result.mission.not_reached) <= 0).all()
+    by_start = result.by_start
+    assert (np.diff(by_start["risk"]) >= 0).all() and (np.diff(by_start["safe"]) <= 0).all()
+    assert (np.diff(by_start["mean_time"]) <= 0).all()
+    curve = result.speeds
+    assert (np.diff(curve.unavailability) <= 0).all() and (np.diff(curve.risk) <= 0).all()
+    assert result.failed_law.probs.min() >= 0 and result.time_split.short >= 0
+
+
+def test_the_longest_table_works_out_and_one_row_more_is_refused():
+    # 1,001 rows (0 to 1,000 failed), the most the form and the parameters take, on a short mission
+    failure = tuple(float(1000 - k) * 1e-3 for k in range(1000)) + (0.0,)
+    repair = (0.0,) + (0.5,) * 1000
+    result = run_all(RateTableParams(failure_rates=failure, repair_rates=repair, shortage_at=5, mission=2.0), 0.05)
+    assert result.long_run_law.size == 1001 and 0 < result.mission_risk < 1
+    with pytest.raises(ValueError, match="rate table must have from 2 to 1,001 rows"):
+        RateTableParams(failure_rates=(1.0, *failure), repair_rates=(0.0, *repair), shortage_at=5, mission=2.0)
