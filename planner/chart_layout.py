@@ -136,6 +136,21 @@ def line(
     return trace
 
 
+def heatmap(x, y, z: list, *, top: float, hover: str) -> dict:
+    """A probability heat map in our level colours: ``z`` (a plain list of rows over ``y``) from 0 to ``top``."""
+    return {
+        "type": "heatmap",
+        "x": as_list(x),
+        "y": as_list(y),
+        "z": z,
+        "colorscale": LEVEL_SCALE,
+        "zmin": 0,
+        "zmax": top,
+        "colorbar": {"title": {"text": "probability"}, "thickness": 12},
+        "hovertemplate": hover,
+    }
+
+
 def target_line(x, value: float, name: str, *, dash: str = "dash") -> dict:
     """A flat target line across the x range (no hover)."""
     x = as_list(x)

@@ -7,6 +7,7 @@ import re
 from django import forms
 
 from planner.formatting import percent_input
+from planner.pool_words import TIME_UNITS, unit_name
 
 ROW = re.compile(r"^\s*([+-]?\d+)\s*[:=]\s*([0-9.eE+-]+)\s*$")
 PERCENT = re.compile(r"^\s*([0-9]*\.?[0-9]+(?:[eE][+-]?[0-9]+)?)\s*%?\s*$")
@@ -63,3 +64,50 @@ def parse_table(text: str) -> tuple[tuple[int, float], ...]:
 
 def format_table(rows) -> str:
     return ", ".join(f"{value}: {prob:.12g}" for value, prob in rows)
+
+
+class PoolTimeUnit(forms.Form):
+    """A pool's time unit, and its name in every label, help text and choice of the form ('{one}': hour,
+    '{many}': hours); the base of a pool kind's form."""
+
+    time_unit = forms.ChoiceField(
+        label="Time unit",
+        choices=[(key, many.capitalize()) for key, (_, many) in TIME_UNITS.items()],
+        initial="hour",
+        required=False,
+        help_text="Every time and rate of this pool is counted in it.",
+    )
+
+    def __init__(self, *args, **kwargs):
+        super().__init__(*args, **kwargs)
+        unit = self.data.get("time_unit") if self.is_bound else self.initial.get("time_unit")
+        unit = unit if isinstance(unit, str) and unit in TIME_UNITS else "hour"
+        self.pool_unit = unit
+        words = {"one": unit_name(unit), "many": unit_name(unit, 2)}
+        for field in self.fields.values():
+            if field.label:
+                field.label = str(field.label).format(**words)
+            if field.help_text:
+                field.help_text = str(field.help_text).format(**words)
+            if isinstance(field, forms.ChoiceField):
+                field.choices = [(key, str(text).format(**words)) for key, text in field.choices]
+
+    def clean_time_unit(self):
+        return self.cleaned_data["time_unit"] or "hour"
+
+
+def mission_field(maximum: float, counted: str = "") -> forms.FloatField:
+    """A pool's mission length in its time unit ('{many}' in the label), at most ``maximum``; ``counted``
+    says how the mission starts, if the kind fixes it."""
+    return forms.FloatField(
+        label="Mission length ({many})",
+        help_text=f"The time the shortage risk is counted over{counted} (at most {maximum:,.0f}).",
+    )
+
+
+def add_parameter_error(form: forms.Form, message: str, prefixes, default: str) -> None:
+    """Show a parameter's ValueError beside its field: the field whose name ``message`` starts with
+    (``prefixes``: (message start, field name) pairs, longest first), else ``default``; once a field."""
+    name = next((field for prefix, field in prefixes if message.startswith(prefix)), default)
+    if name not in form.errors:
+        form.add_error(name if name in form.fields else None, message)

@@ -7,6 +7,8 @@ from django import forms
 from planner.form_fields import PercentField
 
 SHARED_FIELDS = ("title", "notes", "stockout_target", "overflow_target")
+# The model keeps an overflow target for every scenario; kinds with nothing to overflow store this one.
+UNUSED_OVERFLOW_TARGET = 0.05
 
 
 class ScenarioFields(forms.Form):
@@ -24,6 +26,28 @@ class ScenarioFields(forms.Form):
         initial=0.05,
         help_text="Largest acceptable chance of at least one overflow over the horizon (with a capacity).",
     )
+
+
+class PoolTargets(ScenarioFields):
+    """Name, notes and a pool's two targets: long-run availability and the chance of a shortage during the
+    mission (kept as the scenario's stock-out target); a pool has nothing to overflow."""
+
+    stockout_target = PercentField(
+        label="Mission shortage target (%)",
+        initial=0.01,
+        help_text="Largest acceptable chance of at least one shortage during the mission, e.g. 1 or 0.1 %.",
+    )
+    overflow_target = None
+    availability_target = PercentField(
+        label="Availability target (%)",
+        initial=0.999,
+        help_text="Smallest acceptable long-run share of time without a shortage, e.g. 99.9.",
+    )
+
+    def clean(self):
+        data = super().clean()
+        data["overflow_target"] = UNUSED_OVERFLOW_TARGET
+        return data
 
 
 class SaveAsNewForm(forms.Form):

@@ -14,6 +14,7 @@ class ScenarioKind(models.TextChoices):
     STOCK_PLAN = "stock_plan", "Stock plan"
     REORDER_PLAN = "reorder_plan", "Reorder plan"
     SPARES_POOL = "spares_pool", "Spares pool"
+    RATE_TABLE = "rate_table", "Rate-table pool"
 
 
 class Scenario(models.Model):

@@ -53,6 +53,15 @@ def spares_example():
     return SparesPoolParams(units=3, spares=1, failure=400.0, repair=24.0, mission=200.0, crews=1)
 
 
+def rate_table_example():
+    """A quick rate-table pool: 3 proofing-cabinet fans, short with 2 failed, one fitter, a 200-hour mission."""
+    from planner.kinds.rate_table.params import RateTableParams
+
+    return RateTableParams(
+        failure_rates=(0.003, 0.002, 0.001, 0.0), repair_rates=(0.0, 0.05, 0.05, 0.04), shortage_at=2, mission=200.0
+    )
+
+
 # One small example per scenario kind (its key -> its parameters): the generic view tests run every URL on each.
 KIND_EXAMPLES = {
     "stock_plan": lambda: StockPlanParams(
@@ -60,6 +69,7 @@ KIND_EXAMPLES = {
     ),
     "reorder_plan": small_reorder_params,
     "spares_pool": spares_example,
+    "rate_table": rate_table_example,
 }
 
 

@@ -28,6 +28,7 @@ from walkmath.continuous import BirthDeath, _rates, time_within, times_within
 from walkmath.cost import WORK_CAP, Work
 from walkmath.uniformization import (
     STEP_UNITS,
+    UNIFORMIZATION_CAP,
     PassageCurve,
     _uniformized,
     absorption_curve,
@@ -116,6 +117,8 @@ class RatePool:
         Uniformization is priced the way it runs (``uniformization.sweep_units``): tridiagonal
         updates, or for a small chain the step ladder when that is cheaper, plus the weighting of
         every time asked for; steps counted exactly from the Poisson window each sweep uses.
+        Past ``UNIFORMIZATION_CAP`` (gamma x the last time), which no method accepts, the price is
+        over ``WORK_CAP`` and counted without building the Poisson window.
         """
         method = checks.choice("method", method, POOL_METHODS)
         levels = self.chain.top + 1
@@ -126,12 +129,21 @@ class RatePool:
         moments = np.atleast_1d(np.asarray(times, dtype=float))
         if moments.size == 0 or not np.all(np.isfinite(moments)) or np.any(moments < 0):
             raise ValueError("times must be finite numbers at least 0")
+        chain = self.shortage_chain if method == "shortage_curve" else self.chain
+        events = chain.uniformization_rate * float(moments.max())
         if method == "shortage_curve":
             levels = self.shortage_at + 1
-            sweeps = passage_steps(self.shortage_chain.uniformization_rate, moments)
+        if events > UNIFORMIZATION_CAP:
+            # past what any method accepts: priced from the window's end (about events + 8 sqrt(events))
+            # without building the window, whose ~8 sqrt(events) weights could fill the memory first
+            steps = math.ceil(events + 8 * math.sqrt(events)) + 64
+            units = max(levels * steps * STEP_UNITS, WORK_CAP + 1)
+            return Work(method, levels, steps, STEP_UNITS, copies=0, dense=units, knob=_KNOB)
+        if method == "shortage_curve":
+            sweeps = passage_steps(chain.uniformization_rate, moments)
             weighted = 0
         else:
-            sweeps = [window_steps(self.chain.uniformization_rate * float(moments.max()))]
+            sweeps = [window_steps(events)]
             weighted = 2 if method == "shortage_time" else moments.size
         # the whole price in ``dense``: the sweeps the cheaper way, as they run (uniformization.sweep_units)
         units = sweep_units(levels, sweeps) + weighted * levels * sum(sweeps)

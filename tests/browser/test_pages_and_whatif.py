@@ -33,6 +33,27 @@ def sign_in(page, live_server, username="olwen"):
     page.wait_for_url(f"{live_server.url}/", timeout=60_000)
 
 
+def open_new_form(page, live_server, kind: str, width: int) -> None:
+    """At ``width`` px, sign in and open the new-scenario form of ``kind`` from the list of kinds."""
+    page.set_viewport_size({"width": width, "height": 900})
+    sign_in(page, live_server)
+    page.goto(f"{live_server.url}/scenarios/new/")
+    page.click(f"main a[href='/scenarios/new/{kind}/']")
+    page.wait_for_selector("#scenario-form")
+
+
+def try_whatif(page, name: str, value: str, watch: str = "[data-figure=mission-risk] .value") -> None:
+    """Type ``value`` into the what-if input ``name``; return once the figure ``watch`` has changed and the
+    panel is done."""
+    before = page.inner_text(watch).strip()
+    page.fill(f"#whatif-form input[name={name}]", value)
+    page.wait_for_function(
+        "([selector, before]) => document.querySelector(selector).textContent.trim() !== before",
+        arg=[watch, before],
+    )
+    page.wait_for_selector("#whatif-form[data-state=done]")
+
+
 def overflow(page) -> tuple[int, int]:
     return tuple(page.evaluate("[document.documentElement.scrollWidth, window.innerWidth]"))
 

@@ -9,7 +9,7 @@ from pathlib import Path
 import pytest
 
 from planner.models import Scenario
-from tests.browser.test_pages_and_whatif import overflow, sign_in, wait_for_charts
+from tests.browser.test_pages_and_whatif import open_new_form, overflow, try_whatif, wait_for_charts
 
 pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
 
@@ -18,11 +18,7 @@ WIDTHS = {"desktop": 1366, "phone": 390}
 
 @pytest.mark.parametrize("width", WIDTHS.values(), ids=WIDTHS.keys())
 def test_engineer_sizes_the_igniter_pool_and_downloads_its_table(page, live_server, owner, width):
-    page.set_viewport_size({"width": width, "height": 900})
-    sign_in(page, live_server)
-    page.goto(f"{live_server.url}/scenarios/new/")
-    page.click("main a[href='/scenarios/new/spares_pool/']")
-    page.wait_for_selector("#scenario-form")
+    open_new_form(page, live_server, "spares_pool", width)
     page.fill("input[name=title]", "Oven igniters: winter")
     page.select_option("select[name=time_unit]", "hour")
     page.fill("input[name=units]", "6")
@@ -56,13 +52,7 @@ def test_engineer_sizes_the_igniter_pool_and_downloads_its_table(page, live_serv
     assert overflow(page)[0] <= overflow(page)[1], "the results page scrolls sideways"
 
     # what-if: three spares; the headline follows and says it is a what-if
-    before = page.inner_text("[data-figure=mission-risk] .value").strip()
-    page.fill("#whatif-form input[name=spares]", "3")
-    page.wait_for_function(
-        "before => document.querySelector('[data-figure=mission-risk] .value').textContent.trim() !== before",
-        arg=before,
-    )
-    page.wait_for_selector("#whatif-form[data-state=done]")
+    try_whatif(page, "spares", "3")
     assert "spares 1 → 3" in page.inner_text("#whatif-changes")
     assert "meet both targets" in page.inner_text("#recommendation")
 

@@ -71,3 +71,11 @@ def test_demo_spares_pools_show_each_standby():
     # each sizing question is answered in the request, and at least one pool needs more than it holds
     assert all(r.spares_needed is not None and not r.left_out for r in results)
     assert any(r.spares_needed > r.params.spares for r in results)
+
+
+def test_demo_rate_table_pool_asks_for_faster_repairs():
+    load()
+    (result,) = [scenario_reading(scenario=s).result for s in Scenario.objects.filter(kind="rate_table")]
+    # the mixers miss both targets as tabled; every figure is worked out in the request
+    assert not result.meets_availability and not result.meets_risk and not result.left_out
+    assert result.speed_needed == 1.5 and result.recommendation.startswith("As tabled the pool is available")

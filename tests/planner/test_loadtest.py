@@ -39,11 +39,12 @@ def test_workload_has_each_results_page_and_what_ifs_inside_the_band():
         saved = scenario.parameters  # the stored plan
         # What each kind samples, within its bounds: a stock plan's start inside floor and capacity; a
         # reorder plan's lead time at least 1 day (the demo stock is watched all the time); a spares pool's
-        # spares, never below none.
+        # spares, never below none; a rate-table pool's units failed at the start, below its shortage level.
         knob, low, high = {
             "stock_plan": ("start", saved.get("low"), saved.get("high")),
             "reorder_plan": ("lead_time", 1, None),
             "spares_pool": ("spares", 0, None),
+            "rate_table": ("start_failed", 0, saved.get("shortage_at", 1) - 1),
         }[scenario.kind]
         values = [
             int(m.group(1))

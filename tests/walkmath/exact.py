@@ -125,6 +125,22 @@ def _review_period(state, pmf, s, big_s, lead_time, unmet):
         yield p, (left, tuple(due)), facts
 
 
+def solve_exact(rows):
+    """The solution of the square system whose augmented rows (coefficients, then the right-hand side)
+    are ``rows``, by Gauss-Jordan elimination in exact rational arithmetic (rows are changed in place)."""
+    size = len(rows)
+    for col in range(size):
+        pivot = next(r for r in range(col, size) if rows[r][col] != 0)
+        rows[col], rows[pivot] = rows[pivot], rows[col]
+        lead = rows[col][col]
+        rows[col] = [v / lead for v in rows[col]]
+        for r in range(size):
+            if r != col and rows[r][col] != 0:
+                factor = rows[r][col]
+                rows[r] = [a - factor * b for a, b in zip(rows[r], rows[col], strict=True)]
+    return [row[size] for row in rows]
+
+
 def periodic_review_long_run(pmf, s, big_s, lead_time, unmet):
     """Exact long-run measures of an (s, S) policy: the chain's closed class solved in fractions.
 
@@ -164,16 +180,8 @@ def periodic_review_long_run(pmf, s, big_s, lead_time, unmet):
     for y in range(size):
         rows[y][y] -= 1
     rows[-1] = [Fraction(1)] * size + [Fraction(1)]
-    for col in range(size):
-        pivot = next(r for r in range(col, size) if rows[r][col] != 0)
-        rows[col], rows[pivot] = rows[pivot], rows[col]
-        lead = rows[col][col]
-        rows[col] = [v / lead for v in rows[col]]
-        for r in range(size):
-            if r != col and rows[r][col] != 0:
-                factor = rows[r][col]
-                rows[r] = [a - factor * b for a, b in zip(rows[r], rows[col], strict=True)]
-    pi = {x: rows[where[x]][size] for x in states}
+    solution = solve_exact(rows)
+    pi = {x: solution[where[x]] for x in states}
     mean_demand = sum((d * p for d, p in pmf.items()), Fraction(0))
     totals = {"stockout": Fraction(0), "served": Fraction(0), "short": Fraction(0), "on_hand": Fraction(0)}
     totals.update({"backorders": Fraction(0), "ordered": Fraction(0)})

@@ -12,6 +12,7 @@ from scipy import linalg, optimize
 
 from tests.walkmath.exact import mp_generator
 from walkmath import ComputeTooLarge, RatePool
+from walkmath.cost import WORK_CAP
 
 
 def loss_pool(channels: int, load: float) -> RatePool:
@@ -210,6 +211,19 @@ def test_each_figure_is_priced_before_it_runs():
         fast.shortage_time(4.0)
     with pytest.raises(ComputeTooLarge, match="shorten the mission"):
         fast.failed_law([4.0])
+
+
+@pytest.mark.parametrize("method", ["shortage_curve", "shortage_time", "failed_law"])
+def test_a_mission_past_the_uniformization_cap_is_priced_over_the_cap_without_building_its_window(method):
+    # gamma t = 2e6 x 5e5 = 1e12 events: counting the steps from the Poisson window would build about
+    # 8e6 weights (and 1e9 rates over a 1e7-hour mission, gigabytes), so the price is counted directly
+    pool = RatePool([1e6] * 3, [1e6] * 3, shortage_at=2)
+    work = pool.cost(method, times=[1.0, 5e5])
+    assert work.units > WORK_CAP and work.periods >= 1e12
+    with pytest.raises(ComputeTooLarge, match="shorten the mission"):
+        work.check()
+    # 8e6 events, within what the methods accept: priced from the window as before, far below it
+    assert 0 < pool.cost(method, times=[1.0, 4.0]).units < WORK_CAP
 
 
 @pytest.mark.parametrize(

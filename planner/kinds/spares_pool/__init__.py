@@ -18,7 +18,7 @@ from planner.kinds.spares_pool.compute import SparesJob
 from planner.kinds.spares_pool.forms import PoolFields, SparesPoolForm, WhatIfForm, form_initial
 from planner.kinds.spares_pool.params import SparesPoolParams
 from planner.kinds.spares_pool.whatif import apply_changes, describe_changes
-from planner.kinds.spares_pool.words import share
+from planner.pool_words import share
 from walkmath.pools import LONG_RUN_FIXED, LONG_RUN_UNITS
 
 # The preview charts the numbers failed that can be seen (>= 1e-6 of the most likely one).

@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 from planner.formatting import probability
-from planner.kinds.spares_pool.words import count, share
+from planner.pool_words import count, share
 
 if TYPE_CHECKING:
     from planner.kinds.spares_pool.compute import SparesResult

@@ -3,7 +3,8 @@
 Reads only; no database. The job builds the pool once; ``parts`` prices every engine call with the
 engine's cost model (``SparesPool.cost``) before any of them runs, and ``run`` makes only the calls
 the read service allowed. Charts, headline figures and CSV files all read the same
-``SparesResult``, so a download always matches what is on screen.
+``SparesResult``, so a download always matches what is on screen. The figures every pool shows
+(availability, mission curves, units failed over time, risk by start) come from ``planner.pool_job``.
 """
 
 from __future__ import annotations
@@ -11,20 +12,15 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-import numpy as np
-
 import walkmath as wm
 from planner.kinds import Part
 from planner.kinds.spares_pool import advice
 from planner.kinds.spares_pool.params import SparesPoolParams
-from planner.kinds.spares_pool.words import PER_YEAR, count, duration, per, share, unit_name
+from planner.pool_job import BY_START_LEFT_OUT, PoolJob
+from planner.pool_result import PoolResult
+from planner.pool_words import count, duration, per
 from walkmath.sparesizing import MOST_EXTRA, PoolSizing
-from walkmath.uniformization import PassageCurve
 
-# Points on the mission curves and the failed-unit law: the start and 40 equal steps to the end.
-MISSION_STEPS = 40
-# Most starting numbers failed the risk-by-start table works out (0 .. this - 1).
-MAX_STARTS = 25
 # Spares shown beyond the larger of the pool's own and the smallest meeting the targets.
 SPARES_MARGIN = 3
 # Most spares the long-run (availability) search tries; cheap, so it can look far.
@@ -35,22 +31,10 @@ MOST_CREWS = 200
 
 
 @dataclass(frozen=True, eq=False)
-class SparesResult:
-    params: SparesPoolParams
-    risk_target: float
+class SparesResult(PoolResult):
     pool: wm.SparesPool
-    availability: float
-    unavailability: float
     expected_operating: float
     expected_units_short: float
-    shortage_frequency: float
-    mean_shortage_duration: float
-    mean_time_to_shortage: float
-    times: np.ndarray
-    mission: PassageCurve  # over ``times``: .reached (shortage by then), .not_reached
-    failed_law: wm.FailedLaw
-    time_split: wm.TimeSplit
-    by_start: dict | None  # {"failed", "risk", "safe", "mean_time"} arrays; None when left out
     spares_long_run: dict[int, PoolSizing]  # crews -> long-run figures for spares 0..top
     spares_risk: PoolSizing | None  # mission risk for spares 0.. at the pool's crews
     crews_long_run: PoolSizing | None  # None when left out of this request
@@ -59,34 +43,6 @@ class SparesResult:
     crews_for_availability: int | None
     availability_searched_to: int  # the most spares the availability search tried
     left_out: tuple[str, ...] = field(default=())
-
-    @property
-    def unit(self) -> str:
-        return self.params.time_unit
-
-    @property
-    def mission_risk(self) -> float:
-        return float(self.mission.reached[-1])
-
-    @property
-    def mission_safe(self) -> float:
-        return float(self.mission.not_reached[-1])
-
-    @property
-    def availability_target(self) -> float:
-        return self.params.availability_target
-
-    @property
-    def meets_availability(self) -> bool:
-        return _meets_availability(self.availability, self.unavailability, self.availability_target)
-
-    @property
-    def meets_risk(self) -> bool:
-        return self.mission_risk <= self.risk_target
-
-    @property
-    def span(self) -> str:
-        return duration(self.params.mission, self.unit)
 
     @property
     def spares_needed(self) -> int | None:
@@ -137,12 +93,13 @@ class SparesResult:
     # -- the same in words, for the headline ---------------------------------------------------------
 
     @property
-    def unit_one(self) -> str:
-        return unit_name(self.unit)
+    def shortage_at(self) -> int:
+        """The fewest units failed that make a shortage: one more than the spares."""
+        return self.params.spares + 1
 
     @property
-    def unit_many(self) -> str:
-        return unit_name(self.unit, 2)
+    def shortage_words(self) -> str:
+        return f"more than {self.spares_words} failed"
 
     @property
     def spares_words(self) -> str:
@@ -166,45 +123,14 @@ class SparesResult:
             return f"mean repair {duration(params.repair, self.unit)}"
         return per(params.repair, self.unit, "repairs") + " for each crew"
 
-    @property
-    def availability_words(self) -> str:
-        return share(self.availability)
 
-    @property
-    def availability_target_words(self) -> str:
-        return share(self.params.availability_target)
-
-    @property
-    def mttf_words(self) -> str:
-        return duration(self.mean_time_to_shortage, self.unit)
-
-    @property
-    def duration_words(self) -> str:
-        return duration(self.mean_shortage_duration, self.unit)
-
-    @property
-    def time_short_words(self) -> str:
-        return duration(self.time_split.short, self.unit)
-
-    @property
-    def shortages_per_year(self) -> float:
-        return self.shortage_frequency * PER_YEAR[self.unit]
-
-
-def _meets_availability(availability: float, unavailability: float, target: float) -> bool:
-    """Read on the accurate side: 1 - target is exact for a target of 1/2 or more (Sterbenz's lemma)."""
-    return unavailability <= 1.0 - target if target >= 0.5 else availability >= target
-
-
-class SparesJob:
+class SparesJob(PoolJob):
     """One request's work on one pool: the pool built once, each engine call priced first."""
 
     def __init__(self, params: SparesPoolParams, risk_target: float, overflow_target: float = 0.05):
-        self.params = params
-        self.risk_target = risk_target
         self.pool = params.pool()
-        self.times = np.linspace(0.0, params.mission, MISSION_STEPS + 1)
-        self.starts = np.arange(min(params.spares + 1, MAX_STARTS))
+        super().__init__(params, risk_target, self.pool.rates)
+        self.size_words = f"{params.units + params.spares:,} units and spares"
 
     def _probe(self, spares: int | None = None, crews: int | None = None) -> int:
         """Price of one sizing candidate: its long-run figures and its mission risk."""
@@ -232,7 +158,7 @@ class SparesJob:
         fewer and one more stop themselves at their budget. Searches are priced by their bound
         (``_search_bound``).
         """
-        pool, mission, params = self.pool, self.params.mission, self.params
+        params = self.params
         shown = self.shown_spares
         near = min(shown + MOST_EXTRA, MOST_SPARES)
         availability = _search_bound(
@@ -245,45 +171,20 @@ class SparesJob:
         crew = self._long_run(crews=self.most_crews) + self._probe(crews=self.most_crews)
         crews = _search_bound(params.crews + 2, self.most_crews, crew, crew)
         by_crews = 2 * (MOST_SHOWN_SPARES + 1) * self._long_run(spares=MOST_SHOWN_SPARES)
+        shared = self.shared_parts()
+        shared[0] = Part("long_run", shared[0].units + availability)  # the availability search with the long run
         return [
-            Part("long_run", pool.cost("long_run").units + pool.cost("mean_time").units + availability),
-            Part("mission", pool.cost("shortage_curve", times=self.times).units),
-            Part("failed_law", pool.cost("failed_law", times=self.times).units),
-            Part("shortage_time", pool.cost("shortage_time", times=mission).units),
-            Part("by_start", len(self.starts) * pool.cost("shortage_curve", times=mission).units, required=False),
+            *shared,
             Part("spares_risk", risk, required=False, stops_itself=True),
             Part("crews", crews, required=False, stops_itself=True),
             Part("by_crews", by_crews, required=False, stops_itself=True),
         ]
 
-    def refusal(self, units: int, cap: int) -> str:
-        """Why the page is refused, in the planner's words, naming what to change."""
-        params = self.params
-        events = self.pool.chain.uniformization_rate * params.mission
-        return (
-            f"This pool is too large to work out in one request: {params.units + params.spares:,} units and spares, "
-            f"with up to about {events:,.0f} failures and repairs within a mission of {self.span_words()} "
-            f"(about {units / cap:.1f} times this server's limit). To fit, shorten the mission or plan the pool "
-            "in smaller groups."
-        )
-
-    def span_words(self) -> str:
-        return duration(self.params.mission, self.params.time_unit)
-
-    def headline(self) -> tuple[float, str]:
-        """The shortage risk over the mission from all good (one sweep), stored with the pool."""
-        risk, _ = self.pool.shortage_split(self.params.mission)
-        return risk, self.span_words()
-
     def run(self, allowed: dict[str, int]) -> SparesResult:
         """Every figure of the page; optional parts not in ``allowed`` are left out with a note."""
         params, pool = self.params, self.pool
-        left_out = []
-        by_start = None
-        if "by_start" in allowed:
-            by_start = self._by_start()
-        else:
-            left_out.append("the mission risk by units already failed at the start (too much work for one request)")
+        shared = self.shared_figures(allowed)
+        left_out = [BY_START_LEFT_OUT] if shared["by_start"] is None else []
         availability_scan = self._spares_curve(self.shown_spares, params.crews, availability=True)
         shown = min(max(self.shown_spares, (availability_scan.smallest or 0) + SPARES_MARGIN), MOST_SHOWN_SPARES)
         spares_risk = self._spares_risk(allowed.get("spares_risk", 0), shown)
@@ -295,21 +196,10 @@ class SparesJob:
         if crews_risk is None or crews_risk.budget_reached:
             left_out.append("part of the risk by number of repair crews (too much work for one request)")
         return SparesResult(
-            params=params,
-            risk_target=self.risk_target,
+            **shared,
             pool=pool,
-            availability=pool.availability(),
-            unavailability=pool.unavailability(),
             expected_operating=pool.expected_operating(),
             expected_units_short=pool.expected_units_short(),
-            shortage_frequency=pool.shortage_frequency(),
-            mean_shortage_duration=pool.mean_shortage_duration(),
-            mean_time_to_shortage=pool.mean_time_to_shortage(),
-            times=self.times,
-            mission=pool.mission_curves(self.times),
-            failed_law=pool.failed_law(self.times),
-            time_split=pool.shortage_time(params.mission),
-            by_start=by_start,
             spares_long_run=self._spares_by_crews(shown, allowed.get("by_crews", 0)),
             spares_risk=spares_risk,
             crews_long_run=crews_long_run,
@@ -319,15 +209,6 @@ class SparesJob:
             availability_searched_to=availability_scan.searched_to,
             left_out=tuple(left_out),
         )
-
-    def _by_start(self) -> dict:
-        risk, safe, mean_time = [], [], []
-        for failed in self.starts:
-            shortage, no_shortage = self.pool.shortage_split(self.params.mission, failed=int(failed))
-            risk.append(shortage)
-            safe.append(no_shortage)
-            mean_time.append(self.pool.mean_time_to_shortage(failed=int(failed)))
-        return {"failed": self.starts, "risk": np.array(risk), "safe": np.array(safe), "mean_time": np.array(mean_time)}
 
     def _spares_curve(self, shown: int, crews: int, *, availability: bool) -> PoolSizing:
         """Long-run figures for spares 0..shown (cheap: no mission); with ``availability`` the

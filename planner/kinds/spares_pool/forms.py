@@ -9,8 +9,8 @@ from __future__ import annotations
 
 from django import forms
 
-from planner.form_fields import PercentField
-from planner.forms import ScenarioFields
+from planner.form_fields import PoolTimeUnit, add_parameter_error, mission_field
+from planner.forms import PoolTargets
 from planner.kinds.spares_pool.params import (
     MAX_CREWS,
     MAX_MISSION,
@@ -18,10 +18,8 @@ from planner.kinds.spares_pool.params import (
     MAX_UNITS,
     SparesPoolParams,
 )
-from planner.kinds.spares_pool.words import STANDBY_KINDS, TIME_UNITS, unit_name
+from planner.kinds.spares_pool.words import STANDBY_KINDS
 
-# The model keeps an overflow target for every scenario; a spares pool has nothing to overflow.
-UNUSED_OVERFLOW_TARGET = 0.05
 # Parameter messages start with the input's name; this maps the name to its field (longest first).
 MESSAGE_FIELDS = [
     ("time unit", "time_unit"),
@@ -54,20 +52,9 @@ GROUPS = [
 NEUTRAL = {"units": 1, "spares": 0, "failure": 1.0, "repair": 1.0, "mission": 1.0, "crews": 1, "standby": "cold"}
 
 
-def _unit_words(text: str, unit: str) -> str:
-    return text.format(one=unit_name(unit), many=unit_name(unit, 2))
-
-
-class PoolFields(forms.Form):
+class PoolFields(PoolTimeUnit):
     """The pool itself; also the live preview's form."""
 
-    time_unit = forms.ChoiceField(
-        label="Time unit",
-        choices=[(key, many.capitalize()) for key, (_, many) in TIME_UNITS.items()],
-        initial="hour",
-        required=False,
-        help_text="Every time and rate of this pool is counted in it.",
-    )
     units = forms.IntegerField(
         label="Units needed in service",
         min_value=1,
@@ -105,27 +92,7 @@ class PoolFields(forms.Form):
         initial=1,
         help_text="Crews work in parallel, one unit each; the others wait their turn.",
     )
-    mission = forms.FloatField(
-        label="Mission length ({many})",
-        help_text=f"The time the shortage risk is counted over, starting with every unit in working order "
-        f"(at most {MAX_MISSION:,.0f}).",
-    )
-
-    def __init__(self, *args, **kwargs):
-        super().__init__(*args, **kwargs)
-        unit = self.data.get("time_unit") if self.is_bound else self.initial.get("time_unit")
-        unit = unit if isinstance(unit, str) and unit in TIME_UNITS else "hour"
-        self.pool_unit = unit
-        for field in self.fields.values():
-            if field.label:
-                field.label = _unit_words(str(field.label), unit)
-            if field.help_text:
-                field.help_text = _unit_words(str(field.help_text), unit)
-            if isinstance(field, forms.ChoiceField):
-                field.choices = [(key, _unit_words(str(text), unit)) for key, text in field.choices]
-
-    def clean_time_unit(self):
-        return self.cleaned_data["time_unit"] or "hour"
+    mission = mission_field(MAX_MISSION, ", starting with every unit in working order")
 
     def clean(self):
         data = super().clean()
@@ -151,32 +118,12 @@ class PoolFields(forms.Form):
         try:
             return SparesPoolParams(**values)
         except ValueError as exc:
-            message = str(exc)
-            name = next((field for prefix, field in MESSAGE_FIELDS if message.startswith(prefix)), "units")
-            if name not in self.errors:
-                self.add_error(name if name in self.fields else None, message)
+            add_parameter_error(self, str(exc), MESSAGE_FIELDS, "units")
             return None
 
 
-class SparesPoolForm(ScenarioFields, PoolFields):
+class SparesPoolForm(PoolTargets, PoolFields):
     field_order = ["title", "notes", "time_unit"]
-
-    stockout_target = PercentField(
-        label="Mission shortage target (%)",
-        initial=0.01,
-        help_text="Largest acceptable chance of at least one shortage during the mission, e.g. 1 or 0.1 %.",
-    )
-    overflow_target = None
-    availability_target = PercentField(
-        label="Availability target (%)",
-        initial=0.999,
-        help_text="Smallest acceptable long-run share of time with every needed unit in service, e.g. 99.9.",
-    )
-
-    def clean(self):
-        data = super().clean()
-        data["overflow_target"] = UNUSED_OVERFLOW_TARGET
-        return data
 
 
 def form_initial(params: SparesPoolParams) -> dict:

@@ -15,7 +15,8 @@ import dataclasses
 from dataclasses import dataclass
 
 import walkmath as wm
-from planner.kinds.spares_pool.words import STANDBY_KINDS, TIME_UNITS, duration, unit_name
+from planner.kinds.spares_pool.words import STANDBY_KINDS
+from planner.pool_words import TIME_UNITS, duration, unit_name
 from walkmath import checks
 
 FAILURE_STYLES = ("mtbf", "rate")

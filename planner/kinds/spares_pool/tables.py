@@ -2,9 +2,9 @@
 
 from __future__ import annotations
 
+from planner import pool_tables
 from planner.csv_writer import number
 from planner.kinds.spares_pool.compute import SparesResult
-from planner.kinds.spares_pool.words import unit_name
 
 TABLES = {
     "by-spares": "availability and mission risk by number of spares",
@@ -70,63 +70,10 @@ def by_crews_rows(result: SparesResult):
         ]
 
 
-def mission_rows(result: SparesResult):
-    unit = unit_name(result.unit, 2)
-    yield [
-        "scenario",
-        f"time [{unit}]",
-        "at least one shortage by then [probability]",
-        "no shortage by then [probability]",
-        "short at that time [probability]",
-        "not short at that time [probability]",
-    ]
-    law, mission = result.failed_law, result.mission
-    for index, time in enumerate(result.times):
-        yield [
-            None,
-            number(time),
-            number(mission.reached[index]),
-            number(mission.not_reached[index]),
-            number(law.shortage[index]),
-            number(law.covered[index]),
-        ]
-
-
-def failed_rows(result: SparesResult):
-    unit = unit_name(result.unit, 2)
-    yield ["scenario", f"time [{unit}]", "units failed", "probability [that many failed at that time]"]
-    law = result.failed_law
-    for index, time in enumerate(law.times):
-        for failed, prob in zip(law.failed, law.probs[index], strict=True):
-            yield [None, number(time), int(failed), number(prob)]
-
-
-def by_start_rows(result: SparesResult):
-    unit = unit_name(result.unit, 2)
-    yield [
-        "scenario",
-        "units failed at the start",
-        "shortage during the mission [probability]",
-        "no shortage during the mission [probability]",
-        f"mean time to the first shortage [{unit}]",
-    ]
-    by_start = result.by_start
-    if by_start is None:
-        return
-    for index, failed in enumerate(by_start["failed"]):
-        yield [
-            None,
-            int(failed),
-            number(by_start["risk"][index]),
-            number(by_start["safe"][index]),
-            number(by_start["mean_time"][index]),
-        ]
-
-
 ROWS = {
     "by-spares": by_spares_rows,
     "by-crews": by_crews_rows,
-    "mission-risk": mission_rows,
-    "failed-by-time": failed_rows,
-    "risk-by-failed-at-start": by_start_rows,
+    "mission-risk": pool_tables.mission_rows,
+    "failed-by-time": pool_tables.failed_rows,
+    "risk-by-failed-at-start": pool_tables.by_start_rows,
 }

@@ -10,7 +10,7 @@ from collections.abc import Mapping
 
 from planner.formatting import number
 from planner.kinds.spares_pool.params import SparesPoolParams
-from planner.kinds.spares_pool.words import duration, per
+from planner.pool_words import duration, per
 
 CHANGEABLE = ("spares", "crews", "units", "mission", "failure", "repair")
 

@@ -11,13 +11,13 @@ import numpy as np
 
 from planner.chart_layout import (
     INK,
-    LEVEL_SCALE,
     NORMAL,
     OVERFLOW,
     STOCKOUT,
     add_hline,
     add_vline,
     as_list,
+    heatmap,
     layout,
     line,
     log_range,
@@ -56,17 +56,13 @@ def outlook_chart(result: StockResult) -> dict:
     positive = shown[shown > 0]
     top = float(np.quantile(positive, 0.99)) if positive.size else 1.0
     name = period_name(result.period)
-    heat = {
-        "type": "heatmap",
-        "x": as_list(result.periods[::stride]),
-        "y": as_list(levels[rows]),
-        "z": rounded(shown.T),  # colour cells: 4 significant digits (the CSV has every digit)
-        "colorscale": LEVEL_SCALE,
-        "zmin": 0,
-        "zmax": top,
-        "colorbar": {"title": {"text": "probability"}, "thickness": 12},
-        "hovertemplate": f"{name} %{{x}}<br>stock %{{y}} units<br>P = %{{z:.3g}}<extra></extra>",
-    }
+    heat = heatmap(
+        result.periods[::stride],
+        levels[rows],
+        rounded(shown.T),  # colour cells: 4 significant digits (the CSV has every digit)
+        top=top,
+        hover=f"{name} %{{x}}<br>stock %{{y}} units<br>P = %{{z:.3g}}<extra></extra>",
+    )
     fig = {"data": [heat], "layout": layout("Stock level over the horizon", name, "stock (units)")}
     fig["layout"]["hovermode"] = "closest"
     add_hline(fig, result.params.low - 0.5, "safety floor", STOCKOUT)
