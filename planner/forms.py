@@ -32,6 +32,14 @@ class SaveAsNewForm(forms.Form):
     )
 
 
+class EditBaseForm(forms.Form):
+    """The hidden fields of an edit form: the version it started from and the plan's kind (kept for a
+    plan deleted meanwhile, so the values sent can still be shown and saved as a new plan)."""
+
+    version = forms.IntegerField(min_value=1)
+    kind = forms.SlugField(required=False)
+
+
 def scenario_values(form: forms.Form) -> dict:
     """The cleaned values the write services take."""
     return {key: form.cleaned_data[key] for key in SHARED_FIELDS} | {"params": form.cleaned_data["params"]}

@@ -27,6 +27,8 @@ class Scenario(models.Model):
     # recomputes plans; null for rows saved before it was kept.
     headline_risk = models.FloatField(null=True, blank=True)
     headline_span = models.CharField(max_length=60, blank=True)  # "56 days (8 weeks)"
+    # Raised by one at every save (planner/services.py): an edit based on an older number is refused.
+    version = models.PositiveIntegerField(default=1)
     created = models.DateTimeField(auto_now_add=True)
     updated = models.DateTimeField(auto_now=True)
 
@@ -46,6 +48,7 @@ class Scenario(models.Model):
                 condition=Q(headline_risk__isnull=True) | Q(headline_risk__gte=0, headline_risk__lte=1),
                 name="scenario_headline_risk_probability",
             ),
+            models.CheckConstraint(condition=Q(version__gte=1), name="scenario_version_positive"),
         ]
 
     def __str__(self) -> str:
@@ -68,3 +71,34 @@ class Scenario(models.Model):
     @property
     def meets_target(self) -> bool | None:
         return None if self.headline_risk is None else self.headline_risk <= self.stockout_target
+
+
+class ScenarioVersion(models.Model):
+    """What one save of a scenario wrote (its number, who, when, the fields a person edits): the plan's history.
+
+    Written by the write services in the same transaction as the save, so every version a scenario has had
+    is here (rows saved before history was kept start at the version they had then).
+    """
+
+    scenario = models.ForeignKey(Scenario, on_delete=models.CASCADE, related_name="versions")
+    number = models.PositiveIntegerField()
+    saved_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, related_name="+")
+    saved_at = models.DateTimeField()
+    title = models.CharField(max_length=120)
+    notes = models.TextField(blank=True)
+    parameters = models.JSONField()
+    stockout_target = models.FloatField()
+    overflow_target = models.FloatField()
+    headline_risk = models.FloatField(null=True, blank=True)
+    headline_span = models.CharField(max_length=60, blank=True)
+    restored_from = models.PositiveIntegerField(null=True, blank=True)  # the version a restore copied
+
+    class Meta:
+        ordering = ["-number"]
+        constraints = [
+            models.UniqueConstraint(fields=["scenario", "number"], name="scenario_version_unique_number"),
+            models.CheckConstraint(condition=Q(number__gte=1), name="scenario_version_number_positive"),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.title} (version {self.number})"

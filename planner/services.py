@@ -4,15 +4,38 @@ Each save stores the plan's headline stock-out risk (computed through the read
 service, with its cost check) so the scenario list never recomputes plans. A
 plan too large to compute raises ``walkmath.ComputeTooLarge`` and nothing is
 written.
+
+Every save raises the plan's ``version`` by one and records what it wrote as a
+``ScenarioVersion`` (who, when, the fields a person edits) in the same
+transaction. An edit names the version it started from (``based_on``); the
+save is one conditional UPDATE (compare-and-set on the version), so of two
+edits started from the same version exactly one is saved and the other raises
+``EditConflict``, on SQLite and PostgreSQL alike, however they interleave.
 """
 
 from __future__ import annotations
 
 from django.db import transaction
+from django.db.models import F
+from django.utils import timezone
 
 from planner.kinds import get_kind
-from planner.models import Scenario
+from planner.models import Scenario, ScenarioVersion
 from planner.reading import plan_headline
+
+EDITED_FIELDS = ("title", "notes", "parameters", "stockout_target", "overflow_target")
+
+
+class EditConflict(Exception):
+    """Someone saved the plan after this edit began; nothing was written. ``current`` is the plan as saved now."""
+
+    def __init__(self, *, current: Scenario, based_on: int):
+        self.current, self.based_on = current, based_on
+        super().__init__(f"the plan is at version {current.version}; this edit started from version {based_on}")
+
+
+class PlanGone(Exception):
+    """The plan was deleted (or is out of this user's reach) before the edit was saved; nothing was written."""
 
 
 def _set_headline(scenario: Scenario, params) -> None:
@@ -25,6 +48,19 @@ def _set_headline(scenario: Scenario, params) -> None:
     scenario.headline_risk, scenario.headline_span = risk, span[:60]
 
 
+def _record_version(scenario: Scenario, *, saved_by, restored_from: int | None = None) -> ScenarioVersion:
+    return ScenarioVersion.objects.create(
+        scenario=scenario,
+        number=scenario.version,
+        saved_by=saved_by,
+        saved_at=scenario.updated,
+        restored_from=restored_from,
+        headline_risk=scenario.headline_risk,
+        headline_span=scenario.headline_span,
+        **{name: getattr(scenario, name) for name in EDITED_FIELDS},
+    )
+
+
 def scenario_create(
     *,
     owner,
@@ -35,7 +71,7 @@ def scenario_create(
     stockout_target: float = 0.05,
     overflow_target: float = 0.05,
 ) -> Scenario:
-    """A new scenario of ``kind`` owned by ``owner``; ValidationError if a field does not fit."""
+    """A new scenario of ``kind`` owned by ``owner`` (its version 1); ValidationError if a field does not fit."""
     scenario = Scenario(
         owner=owner,
         title=title,
@@ -47,7 +83,9 @@ def scenario_create(
     )
     scenario.full_clean()
     _set_headline(scenario, params)
-    scenario.save()
+    with transaction.atomic():
+        scenario.save()
+        _record_version(scenario, saved_by=owner)
     return scenario
 
 
@@ -59,7 +97,17 @@ def scenario_update(
     notes: str = "",
     stockout_target: float,
     overflow_target: float,
+    based_on: int | None = None,
+    editor=None,
+    restored_from: int | None = None,
 ) -> Scenario:
+    """Save an edit of ``scenario`` made by ``editor`` (default: the owner) from version ``based_on``.
+
+    Raises EditConflict when the plan is no longer at version ``based_on``, PlanGone when it no longer
+    exists, ValidationError or ValueError (ComputeTooLarge) when the values do not fit; nothing is written
+    then. ``based_on=None`` saves over whatever version is current (scripts such as load_demo, never a
+    person's form). ``scenario`` is left holding the new values.
+    """
     scenario.title = title
     scenario.notes = notes
     scenario.parameters = params.to_json()
@@ -67,8 +115,20 @@ def scenario_update(
     scenario.overflow_target = overflow_target
     scenario.full_clean()
     _set_headline(scenario, params)
-    fields = ["title", "notes", "parameters", "stockout_target", "overflow_target", "headline_risk", "headline_span"]
-    scenario.save(update_fields=[*fields, "updated"])
+    values = {name: getattr(scenario, name) for name in (*EDITED_FIELDS, "headline_risk", "headline_span")}
+    with transaction.atomic():
+        rows = Scenario.objects.filter(pk=scenario.pk)
+        if based_on is not None:
+            rows = rows.filter(version=based_on)
+        now = timezone.now()
+        if not rows.update(**values, version=F("version") + 1, updated=now):
+            current = Scenario.objects.filter(pk=scenario.pk).first()
+            if current is None:
+                raise PlanGone(f"scenario {scenario.pk} no longer exists")
+            raise EditConflict(current=current, based_on=based_on)
+        scenario.version = Scenario.objects.values_list("version", flat=True).get(pk=scenario.pk)
+        scenario.updated = now
+        _record_version(scenario, saved_by=editor or scenario.owner, restored_from=restored_from)
     return scenario
 
 

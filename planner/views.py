@@ -27,9 +27,9 @@ from django.shortcuts import redirect, render
 from django.template.loader import render_to_string
 from django.views.decorators.http import require_GET, require_http_methods, require_POST
 
-from planner import reading, services
+from planner import history, reading, services
 from planner.csv_writer import file_name, table_csv
-from planner.forms import SaveAsNewForm, scenario_initial, scenario_values
+from planner.forms import EditBaseForm, SaveAsNewForm, scenario_initial, scenario_values
 from planner.kinds import all_kinds, get_kind
 from planner.models import Scenario
 from planner.permissions import get_scenario_for
@@ -89,18 +89,64 @@ def scenario_new_kind(request, kind: str):
 @login_required
 @require_http_methods(["GET", "POST"])
 def scenario_edit(request, pk: int):
+    if request.method == "POST":
+        return _scenario_edit_save(request, pk)
     scenario = get_scenario_for(request.user, pk)
     kind = get_kind(scenario.kind)
-    form = kind.scenario_form(request.POST or None, initial=scenario_initial(scenario, kind))
-    if request.method == "POST" and form.is_valid():
-        try:
-            services.scenario_update(scenario=scenario, **scenario_values(form))
-        except ValueError as exc:  # the plan cannot be computed (ComputeTooLarge or an engine limit)
-            form.add_error(None, f"Nothing was saved. {exc}")
-        else:
-            messages.success(request, f"Updated “{scenario.title}”.")
-            return redirect(scenario)
-    return render(request, "planner/scenario_form.html", {"form": form, "kind": kind, "scenario": scenario})
+    form = kind.scenario_form(initial=scenario_initial(scenario, kind))
+    return _edit_page(request, form, kind, scenario, based_on=scenario.version)
+
+
+def _edit_page(request, form, kind, scenario, *, based_on, status=200, **extra):
+    context = {"form": form, "kind": kind, "scenario": scenario, "based_on": based_on} | extra
+    return render(request, "planner/scenario_form.html", context, status=status)
+
+
+def _scenario_edit_save(request, pk: int):
+    """Save an edit started from the version the form names; a conflict or a deleted plan keeps the values."""
+    base = EditBaseForm(request.POST)
+    try:
+        scenario = get_scenario_for(request.user, pk)
+    except Http404:
+        return _edit_of_missing_plan(request, base)
+    kind = get_kind(scenario.kind)
+    form = kind.scenario_form(request.POST)
+    based_on = base.cleaned_data["version"] if base.is_valid() else None
+    if not form.is_valid():
+        return _edit_page(request, form, kind, scenario, based_on=based_on)
+    try:
+        if based_on is None:  # a form from before versions were kept: treat it as stale
+            raise services.EditConflict(current=scenario, based_on=None)
+        services.scenario_update(scenario=scenario, editor=request.user, based_on=based_on, **scenario_values(form))
+    except services.EditConflict as exc:
+        return _edit_conflict(request, form, kind, exc.current, based_on)
+    except services.PlanGone:
+        return _edit_of_missing_plan(request, base)
+    except ValueError as exc:  # the plan cannot be computed (ComputeTooLarge or an engine limit)
+        form.add_error(None, f"Nothing was saved. {exc}")
+        return _edit_page(request, form, kind, scenario, based_on=based_on)
+    messages.success(request, f"Updated “{scenario.title}”.")
+    return redirect(scenario)
+
+
+def _edit_conflict(request, form, kind, current, based_on):
+    """409: what was saved since the edit began, beside the refused values, which stay in the form."""
+    versions = {v.number: v for v in current.versions.select_related("saved_by").filter(number__in=[based_on or 0])}
+    latest = current.versions.select_related("saved_by").first()
+    base = history.snapshot(versions[based_on]) if based_on in versions else None
+    rows = history.conflict(kind, base=base, current=history.snapshot(current), form=form)
+    conflict = {"rows": rows, "base": based_on, "latest": latest}
+    return _edit_page(request, form, kind, current, based_on=current.version, status=409, conflict=conflict)
+
+
+def _edit_of_missing_plan(request, base):
+    """404, as for any plan out of reach, but with the values sent kept in a form that saves them as a new plan."""
+    if not base.is_valid():
+        raise Http404("No such scenario")
+    kind = get_kind(base.cleaned_data["kind"])
+    form = kind.scenario_form(request.POST)
+    context = {"form": form, "kind": kind, "gone": True}
+    return render(request, "planner/scenario_form.html", context, status=404)
 
 
 @login_required
