@@ -102,3 +102,40 @@ class ScenarioVersion(models.Model):
 
     def __str__(self) -> str:
         return f"{self.title} (version {self.number})"
+
+
+class ShareRole(models.TextChoices):
+    # planner/permissions.py says what each may do; the owner may do everything.
+    VIEWER = "viewer", "can view"
+    EDITOR = "editor", "can edit"
+
+
+class ScenarioShare(models.Model):
+    """A plan shared by its owner with one user or with everyone in one group, as viewer or editor."""
+
+    scenario = models.ForeignKey(Scenario, on_delete=models.CASCADE, related_name="shares")
+    user = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.CASCADE, null=True, blank=True, related_name="+"
+    )
+    group = models.ForeignKey("auth.Group", on_delete=models.CASCADE, null=True, blank=True, related_name="+")
+    role = models.CharField(max_length=16, choices=ShareRole.choices, default=ShareRole.VIEWER)
+    created = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["id"]
+        constraints = [
+            models.CheckConstraint(
+                condition=Q(user__isnull=False, group__isnull=True) | Q(user__isnull=True, group__isnull=False),
+                name="scenario_share_one_user_or_group",
+            ),
+            models.CheckConstraint(condition=Q(role__in=ShareRole.values), name="scenario_share_role_known"),
+            models.UniqueConstraint(
+                fields=["scenario", "user"], condition=Q(user__isnull=False), name="scenario_share_unique_user"
+            ),
+            models.UniqueConstraint(
+                fields=["scenario", "group"], condition=Q(group__isnull=False), name="scenario_share_unique_group"
+            ),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.scenario} shared with {self.user or self.group} ({self.get_role_display()})"

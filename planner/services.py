@@ -15,12 +15,13 @@ edits started from the same version exactly one is saved and the other raises
 
 from __future__ import annotations
 
+from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.db.models import F
 from django.utils import timezone
 
 from planner.kinds import get_kind
-from planner.models import Scenario, ScenarioVersion
+from planner.models import Scenario, ScenarioShare, ScenarioVersion
 from planner.reading import plan_headline
 
 EDITED_FIELDS = ("title", "notes", "parameters", "stockout_target", "overflow_target")
@@ -148,3 +149,20 @@ def scenario_copy(*, scenario: Scenario, owner, title: str, params=None) -> Scen
 def scenario_delete(*, scenario: Scenario) -> None:
     with transaction.atomic():
         scenario.delete()
+
+
+def share_set(*, scenario: Scenario, role: str, user=None, group=None) -> ScenarioShare:
+    """Share ``scenario`` with ``user`` or ``group`` as ``role`` (a ShareRole), or change the role of that share."""
+    if user is not None and user.pk == scenario.owner_id:
+        raise ValidationError("The owner already holds every right on the plan.")
+    share = ScenarioShare.objects.filter(scenario=scenario, user=user, group=group).first() or ScenarioShare(
+        scenario=scenario, user=user, group=group
+    )
+    share.role = role
+    share.full_clean()
+    share.save()
+    return share
+
+
+def share_remove(*, share: ScenarioShare) -> None:
+    share.delete()

@@ -14,6 +14,8 @@ urlpatterns = [
     path("scenarios/<int:pk>/outlook.json", views.scenario_outlook_json, name="scenario_outlook_json"),
     path("scenarios/<int:pk>/save-variant/", views.scenario_variant_save, name="scenario_variant_save"),
     path("scenarios/<int:pk>/csv/<slug:table>.csv", views.scenario_csv, name="scenario_csv"),
+    path("scenarios/<int:pk>/sharing/", views.scenario_sharing, name="scenario_sharing"),
+    path("scenarios/<int:pk>/sharing/<int:share_id>/", views.scenario_share_change, name="scenario_share_change"),
     path("kinds/<slug:kind>/preview.json", views.kind_preview, name="kind_preview"),
     path("accounts/login/", auth_views.LoginView.as_view(redirect_authenticated_user=True), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),

@@ -23,16 +23,16 @@ import time
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.http import Http404, HttpResponse, JsonResponse
-from django.shortcuts import redirect, render
+from django.shortcuts import get_object_or_404, redirect, render
 from django.template.loader import render_to_string
 from django.views.decorators.http import require_GET, require_http_methods, require_POST
 
-from planner import history, reading, services
+from planner import history, permissions, reading, services
 from planner.csv_writer import file_name, table_csv
-from planner.forms import EditBaseForm, SaveAsNewForm, scenario_initial, scenario_values
+from planner.forms import EditBaseForm, SaveAsNewForm, ShareChangeForm, ShareForm, scenario_initial, scenario_values
 from planner.kinds import all_kinds, get_kind
-from planner.models import Scenario
-from planner.permissions import get_scenario_for
+from planner.models import Scenario, ScenarioShare
+from planner.permissions import EDIT, OWN, get_scenario_for
 
 
 class InvalidChanges(ValueError):
@@ -58,7 +58,8 @@ def _results_context(result_reading: reading.Reading) -> dict:
 @require_GET
 def scenario_list(request):
     scenarios = Scenario.objects.filter(owner=request.user)
-    return render(request, "planner/scenario_list.html", {"scenarios": scenarios})
+    shared = permissions.shared_with(request.user)
+    return render(request, "planner/scenario_list.html", {"scenarios": scenarios, "shared": shared})
 
 
 @login_required
@@ -91,7 +92,7 @@ def scenario_new_kind(request, kind: str):
 def scenario_edit(request, pk: int):
     if request.method == "POST":
         return _scenario_edit_save(request, pk)
-    scenario = get_scenario_for(request.user, pk)
+    scenario = get_scenario_for(request.user, pk, EDIT)
     kind = get_kind(scenario.kind)
     form = kind.scenario_form(initial=scenario_initial(scenario, kind))
     return _edit_page(request, form, kind, scenario, based_on=scenario.version)
@@ -106,7 +107,7 @@ def _scenario_edit_save(request, pk: int):
     """Save an edit started from the version the form names; a conflict or a deleted plan keeps the values."""
     base = EditBaseForm(request.POST)
     try:
-        scenario = get_scenario_for(request.user, pk)
+        scenario = get_scenario_for(request.user, pk, EDIT)
     except Http404:
         return _edit_of_missing_plan(request, base)
     kind = get_kind(scenario.kind)
@@ -152,7 +153,7 @@ def _edit_of_missing_plan(request, base):
 @login_required
 @require_http_methods(["GET", "POST"])
 def scenario_delete(request, pk: int):
-    scenario = get_scenario_for(request.user, pk)
+    scenario = get_scenario_for(request.user, pk, OWN)
     if request.method == "POST":
         services.scenario_delete(scenario=scenario)
         messages.success(request, f"Deleted “{scenario.title}”.")
@@ -235,6 +236,45 @@ def scenario_csv(request, pk: int, table: str):
         f'attachment; filename="{file_name(scenario.title, table, whatif=found.is_whatif)}"'
     )
     return response
+
+
+@login_required
+@require_http_methods(["GET", "POST"])
+def scenario_sharing(request, pk: int):
+    """The owner's page of who else may see or edit the plan; POST adds a share (or changes its role)."""
+    scenario = get_scenario_for(request.user, pk, OWN)
+    form = ShareForm(request.POST or None, owner=scenario.owner)
+    if form.is_valid():
+        data = form.cleaned_data
+        share = services.share_set(scenario=scenario, user=data["user"], group=data["group_found"], role=data["role"])
+        messages.success(
+            request, f"“{scenario.title}” is shared with {share.user or share.group}: {share.get_role_display()}."
+        )
+        return redirect("scenario_sharing", pk=scenario.pk)
+    shares = scenario.shares.select_related("user", "group")
+    context = {"scenario": scenario, "form": form, "shares": shares}
+    return render(request, "planner/scenario_sharing.html", context, status=400 if form.errors else 200)
+
+
+@login_required
+@require_POST
+def scenario_share_change(request, pk: int, share_id: int):
+    """The owner changes a share's role or removes it."""
+    scenario = get_scenario_for(request.user, pk, OWN)
+    share = get_object_or_404(ScenarioShare.objects.select_related("user", "group"), pk=share_id, scenario=scenario)
+    form = ShareChangeForm(request.POST)
+    who = share.user or share.group
+    if not form.is_valid():
+        messages.error(request, "Choose “can view”, “can edit” or remove.")
+    elif form.cleaned_data["role"] == "remove":
+        services.share_remove(share=share)
+        messages.success(request, f"{who} no longer has access to “{scenario.title}”.")
+    else:
+        share = services.share_set(
+            scenario=scenario, user=share.user, group=share.group, role=form.cleaned_data["role"]
+        )
+        messages.success(request, f"{who} now {share.get_role_display()} “{scenario.title}”.")
+    return redirect("scenario_sharing", pk=scenario.pk)
 
 
 @login_required

@@ -1,0 +1,34 @@
+"""Sharing in a real browser: the owner shares a plan with a second person, who finds it under "Shared with
+you", reads it with its charts, and has no way to change it."""
+
+import pytest
+
+from tests.browser.test_edit_conflict import sign_in
+from tests.browser.test_pages_and_whatif import wait_for_charts
+
+pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
+
+
+def test_the_owner_shares_and_the_second_person_sees_it_read_only(page, browser, live_server, scenario, outsider):
+    sign_in(page, live_server, "olwen")
+    page.goto(f"{live_server.url}/scenarios/{scenario.pk}/")
+    page.click("#plan-actions >> text=Share")
+    page.fill("#share-form input[name=person]", "ivo")
+    page.check("#share-form input[name=role][value=viewer]")
+    page.click("#share-form button[type=submit]")
+    page.wait_for_selector("#shares tr[data-share]")
+    assert "ivo" in page.inner_text("#shares") and "can view" in page.inner_text("#shares")
+
+    second = browser.new_context().new_page()
+    try:
+        sign_in(second, live_server, "ivo")
+        row = second.wait_for_selector(f"#shared-with-me tr[data-shared='{scenario.pk}']")
+        assert "Rye loaf shelf" in row.inner_text() and "olwen" in row.inner_text()
+        second.click(f"#shared-with-me tr[data-shared='{scenario.pk}'] a")
+        wait_for_charts(second)
+        assert "Shared with you by olwen" in second.inner_text("#shared-by")
+        assert second.locator("#plan-actions a").count() == 0  # no edit, share or delete
+        refused = second.goto(f"{live_server.url}/scenarios/{scenario.pk}/edit/")
+        assert refused.status == 403 and second.is_visible("[data-error-page='403']")
+    finally:
+        second.context.close()
