@@ -85,3 +85,16 @@ class ShareForm(forms.Form):
 
 class ShareChangeForm(forms.Form):
     role = forms.ChoiceField(choices=[*ShareRole.choices, ("remove", "remove")])
+
+
+class LinkForm(forms.Form):
+    label = forms.CharField(
+        label="Label (for you)", max_length=80, required=False, help_text="e.g. for the co-operative's board"
+    )
+    days = forms.IntegerField(
+        label="Open for (days)",
+        required=False,
+        min_value=1,
+        max_value=366,
+        help_text="Leave empty to keep the link open until you revoke it.",
+    )

@@ -1,5 +1,7 @@
 """Saved planning scenarios. Parameters are JSON checked by the scenario's kind (``planner.kinds``)."""
 
+import hashlib
+
 from django.conf import settings
 from django.core.exceptions import ValidationError
 from django.db import models
@@ -139,3 +141,31 @@ class ScenarioShare(models.Model):
 
     def __str__(self) -> str:
         return f"{self.scenario} shared with {self.user or self.group} ({self.get_role_display()})"
+
+
+class ScenarioLink(models.Model):
+    """A read-only link to a plan: whoever holds its token sees the plan, its charts and CSV tables, nothing else.
+
+    Only the SHA-256 digest of the token is kept (planner/services.py makes the token and shows it once),
+    so the database alone cannot open a plan.
+    """
+
+    scenario = models.ForeignKey(Scenario, on_delete=models.CASCADE, related_name="links")
+    digest = models.CharField(max_length=64, unique=True)
+    label = models.CharField(max_length=80, blank=True)
+    created = models.DateTimeField(auto_now_add=True)
+    expires = models.DateTimeField(null=True, blank=True)
+    revoked = models.DateTimeField(null=True, blank=True)
+
+    class Meta:
+        ordering = ["-created", "-id"]
+
+    def __str__(self) -> str:
+        return f"read-only link to {self.scenario} ({self.label or 'no label'})"
+
+    @staticmethod
+    def digest_of(token: str) -> str:
+        return hashlib.sha256(token.encode()).hexdigest()
+
+    def is_open(self, now) -> bool:
+        return self.revoked is None and (self.expires is None or self.expires > now)

@@ -12,6 +12,10 @@ the highest of owning it, their own share and their groups' shares. Someone with
 no role gets 404, never a hint that the plan exists (anonymous users too, though
 the views send them to sign in first); someone whose role is below what an
 action needs gets 403.
+
+A read-only link (``get_scenario_by_link``) opens one plan to whoever holds its
+token, signed in or not, for the link pages only (the plan, its charts and CSV
+tables): no role, no other page. An unknown, expired or revoked token is 404.
 """
 
 from __future__ import annotations
@@ -21,8 +25,9 @@ from dataclasses import dataclass
 from django.core.exceptions import PermissionDenied
 from django.db.models import Q
 from django.http import Http404
+from django.utils import timezone
 
-from planner.models import Scenario, ScenarioShare
+from planner.models import Scenario, ScenarioLink, ScenarioShare
 
 RANK = {"viewer": 1, "editor": 2, "owner": 3}
 VIEW, EDIT, OWN = "viewer", "editor", "owner"  # what an action needs, named by the least role that may
@@ -87,3 +92,12 @@ def shared_with(user) -> list[Scenario]:
     for scenario in scenarios:
         scenario.access = Access(best[scenario.pk])
     return scenarios
+
+
+def get_scenario_by_link(token: str) -> Scenario:
+    """The plan an open read-only link's ``token`` shows; Http404 for an unknown, expired or revoked token."""
+    links = ScenarioLink.objects.select_related("scenario", "scenario__owner")
+    link = links.filter(digest=ScenarioLink.digest_of(token)).first()
+    if link is None or not link.is_open(timezone.now()):
+        raise Http404("No such link")
+    return link.scenario

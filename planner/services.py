@@ -15,13 +15,16 @@ edits started from the same version exactly one is saved and the other raises
 
 from __future__ import annotations
 
+import secrets
+from datetime import timedelta
+
 from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.db.models import F
 from django.utils import timezone
 
 from planner.kinds import get_kind
-from planner.models import Scenario, ScenarioShare, ScenarioVersion
+from planner.models import Scenario, ScenarioLink, ScenarioShare, ScenarioVersion
 from planner.reading import plan_headline
 
 EDITED_FIELDS = ("title", "notes", "parameters", "stockout_target", "overflow_target")
@@ -166,3 +169,22 @@ def share_set(*, scenario: Scenario, role: str, user=None, group=None) -> Scenar
 
 def share_remove(*, share: ScenarioShare) -> None:
     share.delete()
+
+
+def link_create(*, scenario: Scenario, label: str = "", days: int | None = None) -> tuple[ScenarioLink, str]:
+    """A new read-only link to ``scenario``, open for ``days`` (None: until revoked), and its token.
+
+    The token (256 random bits, URL-safe) is returned once and never stored; only its digest is.
+    """
+    token = secrets.token_urlsafe(32)
+    expires = timezone.now() + timedelta(days=days) if days else None
+    link = ScenarioLink(scenario=scenario, digest=ScenarioLink.digest_of(token), label=label, expires=expires)
+    link.full_clean()
+    link.save()
+    return link, token
+
+
+def link_revoke(*, link: ScenarioLink) -> None:
+    if link.revoked is None:
+        link.revoked = timezone.now()
+        link.save(update_fields=["revoked"])

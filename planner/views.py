@@ -25,14 +25,24 @@ from django.contrib.auth.decorators import login_required
 from django.http import Http404, HttpResponse, JsonResponse
 from django.shortcuts import get_object_or_404, redirect, render
 from django.template.loader import render_to_string
+from django.urls import reverse
+from django.utils import timezone
 from django.views.decorators.http import require_GET, require_http_methods, require_POST
 
 from planner import history, permissions, reading, services
 from planner.csv_writer import file_name, table_csv
-from planner.forms import EditBaseForm, SaveAsNewForm, ShareChangeForm, ShareForm, scenario_initial, scenario_values
+from planner.forms import (
+    EditBaseForm,
+    LinkForm,
+    SaveAsNewForm,
+    ShareChangeForm,
+    ShareForm,
+    scenario_initial,
+    scenario_values,
+)
 from planner.kinds import all_kinds, get_kind
-from planner.models import Scenario, ScenarioShare
-from planner.permissions import EDIT, OWN, get_scenario_for
+from planner.models import Scenario, ScenarioLink, ScenarioShare
+from planner.permissions import EDIT, OWN, get_scenario_by_link, get_scenario_for
 
 
 class InvalidChanges(ValueError):
@@ -238,22 +248,33 @@ def scenario_csv(request, pk: int, table: str):
     return response
 
 
+def _sharing_page(request, scenario, *, form=None, link_form=None, new_link=None, status=200):
+    context = {
+        "scenario": scenario,
+        "form": form or ShareForm(owner=scenario.owner),
+        "link_form": link_form or LinkForm(),
+        "shares": scenario.shares.select_related("user", "group"),
+        "links": scenario.links.all(),
+        "now": timezone.now(),
+        "new_link": new_link,
+    }
+    return render(request, "planner/scenario_sharing.html", context, status=status)
+
+
 @login_required
 @require_http_methods(["GET", "POST"])
 def scenario_sharing(request, pk: int):
-    """The owner's page of who else may see or edit the plan; POST adds a share (or changes its role)."""
+    """The owner's page of who else may see or edit the plan, and its read-only links; POST adds a share."""
     scenario = get_scenario_for(request.user, pk, OWN)
     form = ShareForm(request.POST or None, owner=scenario.owner)
-    if form.is_valid():
-        data = form.cleaned_data
-        share = services.share_set(scenario=scenario, user=data["user"], group=data["group_found"], role=data["role"])
-        messages.success(
-            request, f"“{scenario.title}” is shared with {share.user or share.group}: {share.get_role_display()}."
-        )
-        return redirect("scenario_sharing", pk=scenario.pk)
-    shares = scenario.shares.select_related("user", "group")
-    context = {"scenario": scenario, "form": form, "shares": shares}
-    return render(request, "planner/scenario_sharing.html", context, status=400 if form.errors else 200)
+    if not form.is_valid():
+        return _sharing_page(request, scenario, form=form, status=400 if form.errors else 200)
+    data = form.cleaned_data
+    share = services.share_set(scenario=scenario, user=data["user"], group=data["group_found"], role=data["role"])
+    messages.success(
+        request, f"“{scenario.title}” is shared with {share.user or share.group}: {share.get_role_display()}."
+    )
+    return redirect("scenario_sharing", pk=scenario.pk)
 
 
 @login_required
@@ -275,6 +296,68 @@ def scenario_share_change(request, pk: int, share_id: int):
         )
         messages.success(request, f"{who} now {share.get_role_display()} “{scenario.title}”.")
     return redirect("scenario_sharing", pk=scenario.pk)
+
+
+@login_required
+@require_POST
+def scenario_link_create(request, pk: int):
+    """A new read-only link; its address is shown on this answer only (the token is not kept)."""
+    scenario = get_scenario_for(request.user, pk, OWN)
+    form = LinkForm(request.POST)
+    if not form.is_valid():
+        return _sharing_page(request, scenario, link_form=form, status=400)
+    link, token = services.link_create(scenario=scenario, **form.cleaned_data)
+    address = request.build_absolute_uri(reverse("link_results", args=[token]))
+    return _sharing_page(request, scenario, new_link={"link": link, "address": address}, status=201)
+
+
+@login_required
+@require_POST
+def scenario_link_revoke(request, pk: int, link_id: int):
+    scenario = get_scenario_for(request.user, pk, OWN)
+    link = get_object_or_404(ScenarioLink, pk=link_id, scenario=scenario)
+    services.link_revoke(link=link)
+    messages.success(request, f"The read-only link “{link.label or 'without a label'}” no longer opens the plan.")
+    return redirect("scenario_sharing", pk=scenario.pk)
+
+
+def _link_response(response):
+    # The address is the key: keep it out of caches, search engines and Referer headers.
+    response["Cache-Control"] = "no-store"
+    response["X-Robots-Tag"] = "noindex, nofollow"
+    response["Referrer-Policy"] = "no-referrer"
+    return response
+
+
+@require_GET
+def link_results(request, token: str):
+    """The plan a read-only link opens: figures, charts and CSV tables of the saved plan, no controls."""
+    scenario = get_scenario_by_link(token)
+    kind = get_kind(scenario.kind)
+    context = {"scenario": scenario, "kind": kind, "token": token}
+    try:
+        context["params"] = scenario.params
+        context |= _results_context(reading.scenario_reading(scenario=scenario))
+    except ValueError as exc:
+        context["error"] = str(exc)
+    return _link_response(render(request, "planner/link_results.html", context))
+
+
+@require_GET
+def link_csv(request, token: str, table: str):
+    """A CSV table of the saved plan a read-only link opens (what-if values are not taken)."""
+    scenario = get_scenario_by_link(token)
+    kind = get_kind(scenario.kind)
+    if table not in kind.tables:
+        raise Http404("No such table")
+    try:
+        found = reading.scenario_reading(scenario=scenario)
+    except ValueError as exc:
+        return _link_response(HttpResponse(str(exc), status=400, content_type="text/plain; charset=utf-8"))
+    body = table_csv(kind.table_rows(found.result, table), title=scenario.title)
+    response = HttpResponse(body, content_type="text/csv; charset=utf-8")
+    response["Content-Disposition"] = f'attachment; filename="{file_name(scenario.title, table)}"'
+    return _link_response(response)
 
 
 @login_required

@@ -8,9 +8,9 @@ import pytest
 from django.test import Client
 from django.urls import reverse
 
-from planner import urls
+from planner import services, urls
 from planner.kinds import all_kinds
-from planner.models import Scenario, ScenarioShare, ScenarioVersion
+from planner.models import Scenario, ScenarioLink, ScenarioShare, ScenarioVersion
 from planner.permissions import EDIT, OWN, RANK, VIEW
 from tests.planner.test_edit_conflicts import edit_values
 from tests.planner.test_permissions import ROLES
@@ -27,6 +27,8 @@ NEEDS = {
     "scenario_delete": OWN,
     "scenario_sharing": OWN,
     "scenario_share_change": OWN,
+    "scenario_link_create": OWN,
+    "scenario_link_revoke": OWN,
 }
 REQUESTS = [
     ("scenario_results", "get"),
@@ -39,12 +41,15 @@ REQUESTS = [
     ("scenario_sharing", "get"),
     ("scenario_sharing", "post"),
     ("scenario_share_change", "post"),
-] + [("scenario_csv", "get")]
+    ("scenario_link_create", "post"),
+    ("scenario_link_revoke", "post"),
+    ("scenario_csv", "get"),
+]
 
 
 def test_every_view_of_a_plan_is_in_the_matrix():
     names = {p.name for p in urls.urlpatterns if "<int:pk>" in str(p.pattern)}
-    assert names == set(NEEDS)
+    assert names == set(NEEDS) == {name for name, _ in REQUESTS}
 
 
 def request_for(name, scenario, cast):
@@ -62,12 +67,15 @@ def request_for(name, scenario, cast):
         data = {"person": "ivo", "role": "editor"}
     if name == "scenario_variant_save":
         data = {"title": "My own copy", "start": "2"}
+    if name == "scenario_link_revoke":
+        kwargs["link_id"] = services.link_create(scenario=scenario, label="board")[0].pk
     return reverse(name, kwargs=kwargs), data
 
 
 def state(scenario):
     fresh = Scenario.objects.filter(pk=scenario.pk).values_list("title", "version").first()
-    return fresh, ScenarioShare.objects.filter(scenario=scenario).count(), ScenarioVersion.objects.count()
+    links = list(ScenarioLink.objects.values_list("pk", "revoked"))
+    return fresh, ScenarioShare.objects.filter(scenario=scenario).count(), ScenarioVersion.objects.count(), links
 
 
 @pytest.mark.parametrize("who", ROLES)
@@ -88,7 +96,7 @@ def test_each_role_against_each_view(scenario, cast, who, name, method):
         assert response.status_code == 403
         assert b'data-error-page="403"' in response.content
     else:
-        assert response.status_code in (200, 302), response.content[:500]
+        assert response.status_code in (200, 201, 302), response.content[:500]
         return
     assert state(scenario) == before  # refused: nothing changed
     assert not Scenario.objects.filter(title="My own copy").exists()
@@ -195,8 +203,6 @@ def test_the_owner_changes_and_removes_shares(scenario, cast):
 
 
 def test_a_share_of_another_plan_cannot_be_changed_through_this_one(scenario, cast, small_params):
-    from planner import services
-
     other = services.scenario_create(owner=cast["outsider"], kind="stock_plan", title="Ivo's", params=small_params)
     foreign = services.share_set(scenario=other, user=cast["viewer"], role="viewer")
     url = reverse("scenario_share_change", args=[scenario.pk, foreign.pk])
