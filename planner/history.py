@@ -74,13 +74,27 @@ def submitted_texts(kind, form) -> dict[str, tuple[str, str]]:
     return {bf.name: (str(bf.label), _text(bf.field, bf.value())) for bf in form if not bf.is_hidden}
 
 
-def differences(kind, before: dict, after: dict) -> list[Difference]:
-    """The fields whose shown values differ from ``before`` to ``after``, in form order, under ``after``'s labels."""
-    old, new = form_texts(kind, before), form_texts(kind, after)
+def compare(old: dict[str, tuple[str, str]], new: dict[str, tuple[str, str]]) -> list[Difference]:
+    """Fields whose shown values differ between two ``form_texts`` results (form order, ``new``'s labels)."""
     return [
         Difference(name=name, label=label, before=old.get(name, (label, EMPTY))[1], after=text)
         for name, (label, text) in new.items()
         if old.get(name, (label, EMPTY))[1] != text
+    ]
+
+
+def differences(kind, before: dict, after: dict) -> list[Difference]:
+    """The fields whose shown values differ from snapshot ``before`` to snapshot ``after``."""
+    return compare(form_texts(kind, before), form_texts(kind, after))
+
+
+def changes_by_version(kind, versions: list) -> list[tuple[object, list[Difference] | None]]:
+    """(version, what it changed from the version before it) for ScenarioVersions newest first; None for the
+    oldest shown (nothing before it to compare). Builds each version's form once."""
+    texts = [form_texts(kind, snapshot(version)) for version in versions]
+    return [
+        (version, compare(texts[i + 1], texts[i]) if i + 1 < len(versions) else None)
+        for i, version in enumerate(versions)
     ]
 
 

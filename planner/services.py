@@ -188,3 +188,20 @@ def link_revoke(*, link: ScenarioLink) -> None:
     if link.revoked is None:
         link.revoked = timezone.now()
         link.save(update_fields=["revoked"])
+
+
+def scenario_restore(*, scenario: Scenario, version: ScenarioVersion, editor, based_on: int) -> Scenario:
+    """Save ``version``'s fields as the plan's next version (nothing is lost: the versions in between stay in
+    the history). The same refusals as ``scenario_update``; ValueError if the old parameters no longer fit."""
+    params = get_kind(scenario.kind).params_from_json(version.parameters)
+    return scenario_update(
+        scenario=scenario,
+        title=version.title,
+        notes=version.notes,
+        params=params,
+        stockout_target=version.stockout_target,
+        overflow_target=version.overflow_target,
+        based_on=based_on,
+        editor=editor,
+        restored_from=version.number,
+    )

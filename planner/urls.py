@@ -18,6 +18,13 @@ urlpatterns = [
     path("scenarios/<int:pk>/sharing/<int:share_id>/", views.scenario_share_change, name="scenario_share_change"),
     path("scenarios/<int:pk>/links/", views.scenario_link_create, name="scenario_link_create"),
     path("scenarios/<int:pk>/links/<int:link_id>/revoke/", views.scenario_link_revoke, name="scenario_link_revoke"),
+    path("scenarios/<int:pk>/history/", views.scenario_history, name="scenario_history"),
+    path("scenarios/<int:pk>/history/<int:number>/", views.scenario_version, name="scenario_version"),
+    path(
+        "scenarios/<int:pk>/history/<int:number>/restore/",
+        views.scenario_version_restore,
+        name="scenario_version_restore",
+    ),
     path("view/<slug:token>/", views.link_results, name="link_results"),
     path("view/<slug:token>/csv/<slug:table>.csv", views.link_csv, name="link_csv"),
     path("kinds/<slug:kind>/preview.json", views.kind_preview, name="kind_preview"),

@@ -360,6 +360,64 @@ def link_csv(request, token: str, table: str):
     return _link_response(response)
 
 
+HISTORY_SHOWN = 100  # versions listed on the history page, newest first
+
+
+@login_required
+@require_GET
+def scenario_history(request, pk: int):
+    """Every saved version of the plan: who, when, the headline risk and what each save changed."""
+    scenario = get_scenario_for(request.user, pk)
+    kind = get_kind(scenario.kind)
+    # one more than shown, to tell what the oldest shown one changed
+    versions = list(scenario.versions.select_related("saved_by")[: HISTORY_SHOWN + 1])
+    entries = history.changes_by_version(kind, versions)[:HISTORY_SHOWN]
+    context = {"scenario": scenario, "kind": kind, "entries": entries, "more": scenario.version > HISTORY_SHOWN}
+    return render(request, "planner/scenario_history.html", context)
+
+
+@login_required
+@require_GET
+def scenario_version(request, pk: int, number: int):
+    """One saved version: its values and what bringing it back would change."""
+    scenario = get_scenario_for(request.user, pk)
+    version = get_object_or_404(scenario.versions.select_related("saved_by"), number=number)
+    kind = get_kind(scenario.kind)
+    context = {
+        "scenario": scenario,
+        "version": version,
+        "values": history.form_texts(kind, history.snapshot(version)).values(),
+        "restoring": history.differences(kind, history.snapshot(scenario), history.snapshot(version)),
+    }
+    return render(request, "planner/scenario_version.html", context)
+
+
+@login_required
+@require_POST
+def scenario_version_restore(request, pk: int, number: int):
+    """Bring an earlier version back as the plan's next version (editors and the owner)."""
+    scenario = get_scenario_for(request.user, pk, EDIT)
+    version = get_object_or_404(scenario.versions, number=number)
+    base = EditBaseForm(request.POST)
+    based_on = base.cleaned_data["version"] if base.is_valid() else 0
+    try:
+        services.scenario_restore(scenario=scenario, version=version, editor=request.user, based_on=based_on)
+    except services.EditConflict as exc:
+        messages.error(
+            request,
+            f"Nothing was restored: the plan was saved again (it is now version {exc.current.version}) after you "
+            "opened this page. Check what restoring would change now, then restore again.",
+        )
+        return redirect("scenario_version", pk=scenario.pk, number=number)
+    except services.PlanGone:
+        raise Http404("No such scenario") from None
+    except ValueError as exc:
+        messages.error(request, f"Nothing was restored: version {number} cannot be worked out now. {exc}")
+        return redirect("scenario_version", pk=scenario.pk, number=number)
+    messages.success(request, f"Version {number} is back as version {scenario.version} of “{scenario.title}”.")
+    return redirect("scenario_history", pk=scenario.pk)
+
+
 @login_required
 @require_GET
 def kind_preview(request, kind: str):

@@ -110,7 +110,7 @@ def test_a_link_cannot_write_or_reach_anything_else(scenario, outsider):
     assert anonymous.post(reverse("link_results", args=[token]), {"title": "Taken over"}).status_code == 405
     assert anonymous.post(reverse("link_csv", args=[token, "risk-curves"])).status_code == 405
     # Having opened the link grants nothing on the plan's own pages.
-    for name in ("scenario_results", "scenario_edit"):
+    for name in ("scenario_results", "scenario_edit", "scenario_history"):
         response = anonymous.get(reverse(name, args=[scenario.pk]))
         assert response.status_code == 302 and response["Location"].startswith(reverse("login"))
     signed_in = Client()

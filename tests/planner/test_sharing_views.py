@@ -29,6 +29,9 @@ NEEDS = {
     "scenario_share_change": OWN,
     "scenario_link_create": OWN,
     "scenario_link_revoke": OWN,
+    "scenario_history": VIEW,
+    "scenario_version": VIEW,
+    "scenario_version_restore": EDIT,
 }
 REQUESTS = [
     ("scenario_results", "get"),
@@ -44,6 +47,9 @@ REQUESTS = [
     ("scenario_link_create", "post"),
     ("scenario_link_revoke", "post"),
     ("scenario_csv", "get"),
+    ("scenario_history", "get"),
+    ("scenario_version", "get"),
+    ("scenario_version_restore", "post"),
 ]
 
 
@@ -67,6 +73,9 @@ def request_for(name, scenario, cast):
         data = {"person": "ivo", "role": "editor"}
     if name == "scenario_variant_save":
         data = {"title": "My own copy", "start": "2"}
+    if name in ("scenario_version", "scenario_version_restore"):
+        kwargs["number"] = 1
+        data = {"version": str(scenario.version)}
     if name == "scenario_link_revoke":
         kwargs["link_id"] = services.link_create(scenario=scenario, label="board")[0].pk
     return reverse(name, kwargs=kwargs), data
