@@ -116,3 +116,12 @@ def table_csv(rows: Iterator[list], *, title: str, changes: Iterable[str] = ()) 
         row[0] = title
         writer.writerow([_cell(value) for value in row + tail])
     return buffer.getvalue()
+
+
+def rows_csv(rows: Iterable[list]) -> str:
+    """Any table as CSV under the same rules (text quoted and guarded, numbers bare); the first row is the header."""
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\r\n", quoting=csv.QUOTE_NONNUMERIC)
+    for row in rows:
+        writer.writerow([_cell(value) for value in row])
+    return buffer.getvalue()

@@ -25,6 +25,8 @@ urlpatterns = [
         views.scenario_version_restore,
         name="scenario_version_restore",
     ),
+    path("compare/", views.scenario_compare, name="scenario_compare"),
+    path("compare/<slug:table>.csv", views.scenario_compare_csv, name="scenario_compare_csv"),
     path("view/<slug:token>/", views.link_results, name="link_results"),
     path("view/<slug:token>/csv/<slug:table>.csv", views.link_csv, name="link_csv"),
     path("kinds/<slug:kind>/preview.json", views.kind_preview, name="kind_preview"),

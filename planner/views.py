@@ -29,8 +29,8 @@ from django.urls import reverse
 from django.utils import timezone
 from django.views.decorators.http import require_GET, require_http_methods, require_POST
 
-from planner import history, permissions, reading, services
-from planner.csv_writer import file_name, table_csv
+from planner import comparison, history, permissions, reading, services
+from planner.csv_writer import file_name, rows_csv, table_csv
 from planner.forms import (
     EditBaseForm,
     LinkForm,
@@ -416,6 +416,53 @@ def scenario_version_restore(request, pk: int, number: int):
         return redirect("scenario_version", pk=scenario.pk, number=number)
     messages.success(request, f"Version {number} is back as version {scenario.version} of “{scenario.title}”.")
     return redirect("scenario_history", pk=scenario.pk)
+
+
+COMPARISON_TABLES = {"key-figures": comparison.figures_csv_rows, "risk-curves": comparison.curves_csv_rows}
+
+
+def _plans_to_compare(request) -> list[Scenario]:
+    """The plans named by ``plan`` in the query, each one the user may see (404 otherwise); ValueError with
+    the analyst's message when there are not 2 to 4 different ones."""
+    chosen = list(dict.fromkeys(request.GET.getlist("plan")))
+    if not all(pk.isdigit() for pk in chosen) or not comparison.MIN_PLANS <= len(chosen) <= comparison.MAX_PLANS:
+        raise ValueError(
+            f"Choose {comparison.MIN_PLANS} to {comparison.MAX_PLANS} plans to compare (tick them in the list); "
+            f"{len(chosen)} {'was' if len(chosen) == 1 else 'were'} chosen."
+        )
+    return [get_scenario_for(request.user, int(pk)) for pk in chosen]
+
+
+@login_required
+@require_GET
+def scenario_compare(request):
+    """2 to 4 plans side by side: their risk curves on one chart and key figures in one table."""
+    try:
+        scenarios = _plans_to_compare(request)
+    except ValueError as exc:
+        return render(request, "planner/scenario_compare.html", {"error": str(exc)}, status=400)
+    compared = comparison.compare(scenarios)
+    context = {
+        "compared": compared,
+        "rows": comparison.figure_rows(compared),
+        "figures": {"compare": comparison.figure(compared)},
+        "query": request.GET.urlencode(),
+    }
+    return render(request, "planner/scenario_compare.html", context)
+
+
+@login_required
+@require_GET
+def scenario_compare_csv(request, table: str):
+    if table not in COMPARISON_TABLES:
+        raise Http404("No such table")
+    try:
+        compared = comparison.compare(_plans_to_compare(request))
+    except ValueError as exc:
+        return HttpResponse(str(exc), status=400, content_type="text/plain; charset=utf-8")
+    response = HttpResponse(rows_csv(COMPARISON_TABLES[table](compared)), content_type="text/csv; charset=utf-8")
+    response["Content-Disposition"] = f'attachment; filename="comparison-{table}.csv"'
+    return response
 
 
 @login_required

@@ -12,7 +12,7 @@ import numpy as np
 
 from planner.formatting import rate
 from planner.kinds import Kind, Part, register
-from planner.kinds.stock_plan import charts, tables
+from planner.kinds.stock_plan import charts, comparison, tables
 from planner.kinds.stock_plan.compute import StockJob
 from planner.kinds.stock_plan.forms import ChangeLawForm, StockPlanForm, WhatIfForm, form_initial
 from planner.kinds.stock_plan.params import StockPlanParams
@@ -56,6 +56,9 @@ class StockPlan(Kind):
 
     def table_rows(self, result, table):
         return tables.ROWS[table](result)
+
+    def comparable(self, result):
+        return comparison.comparable(result)
 
     def preview_form(self, data):
         return ChangeLawForm(data)
