@@ -30,8 +30,12 @@ READ = {
 }
 
 
+# Set by tests/browser/conftest.py for Playwright in this process; a deployment never has it (async.E001).
+TEST_RUN_ONLY = {"DJANGO_ALLOW_ASYNC_UNSAFE"}
+
+
 def clean_env(**env) -> dict:
-    return {k: v for k, v in os.environ.items() if k not in READ} | env
+    return {k: v for k, v in os.environ.items() if k not in READ | TEST_RUN_ONLY} | env
 
 
 def load_settings(**env) -> subprocess.CompletedProcess:
