@@ -21,6 +21,7 @@ from datetime import timedelta
 from django.core.exceptions import ValidationError
 from django.db import transaction
 from django.db.models import F
+from django.http import Http404
 from django.utils import timezone
 
 from planner.kinds import get_kind
@@ -38,8 +39,9 @@ class EditConflict(Exception):
         super().__init__(f"the plan is at version {current.version}; this edit started from version {based_on}")
 
 
-class PlanGone(Exception):
-    """The plan was deleted (or is out of this user's reach) before the edit was saved; nothing was written."""
+class PlanGone(Http404):
+    """The plan was deleted before this write reached it; nothing was written. A view that does not say more
+    (the edit page does) answers 404, as for any plan that is not there."""
 
 
 def _set_headline(scenario: Scenario, params) -> None:
@@ -149,8 +151,17 @@ def scenario_copy(*, scenario: Scenario, owner, title: str, params=None) -> Scen
     )
 
 
+def _lock(scenario: Scenario) -> None:
+    """Hold the plan's row until the transaction ends (PlanGone if it is gone), so that a save, a share or a
+    link made at the same moment either lands before a delete (which then deletes it too) or finds the plan
+    gone, instead of pointing at a deleted plan. A no-op on SQLite, where writers take turns anyway."""
+    if not Scenario.objects.select_for_update().filter(pk=scenario.pk).exists():
+        raise PlanGone(f"scenario {scenario.pk} no longer exists")
+
+
 def scenario_delete(*, scenario: Scenario) -> None:
     with transaction.atomic():
+        _lock(scenario)
         scenario.delete()
 
 
@@ -158,12 +169,13 @@ def share_set(*, scenario: Scenario, role: str, user=None, group=None) -> Scenar
     """Share ``scenario`` with ``user`` or ``group`` as ``role`` (a ShareRole), or change the role of that share."""
     if user is not None and user.pk == scenario.owner_id:
         raise ValidationError("The owner already holds every right on the plan.")
-    share = ScenarioShare.objects.filter(scenario=scenario, user=user, group=group).first() or ScenarioShare(
-        scenario=scenario, user=user, group=group
-    )
-    share.role = role
-    share.full_clean()
-    share.save()
+    with transaction.atomic():
+        _lock(scenario)  # checked while held: a plan deleted meanwhile is PlanGone, never a half-checked share
+        found = ScenarioShare.objects.filter(scenario=scenario, user=user, group=group).first()
+        share = found or ScenarioShare(scenario=scenario, user=user, group=group)
+        share.role = role
+        share.full_clean()
+        share.save()
     return share
 
 
@@ -179,15 +191,16 @@ def link_create(*, scenario: Scenario, label: str = "", days: int | None = None)
     token = secrets.token_urlsafe(32)
     expires = timezone.now() + timedelta(days=days) if days else None
     link = ScenarioLink(scenario=scenario, digest=ScenarioLink.digest_of(token), label=label, expires=expires)
-    link.full_clean()
-    link.save()
+    with transaction.atomic():
+        _lock(scenario)
+        link.full_clean()
+        link.save()
     return link, token
 
 
 def link_revoke(*, link: ScenarioLink) -> None:
-    if link.revoked is None:
-        link.revoked = timezone.now()
-        link.save(update_fields=["revoked"])
+    """Close the link for good (nothing happens to a link already revoked, or gone with its plan)."""
+    ScenarioLink.objects.filter(pk=link.pk, revoked__isnull=True).update(revoked=timezone.now())
 
 
 def scenario_restore(*, scenario: Scenario, version: ScenarioVersion, editor, based_on: int) -> Scenario:

@@ -145,3 +145,27 @@ def test_an_edit_racing_a_delete_never_fails(owner, small_params):
         if edited.status_code == 404:
             assert b'id="plan-gone"' in edited.content and b"late" in edited.content
     assert not Scenario.objects.exists()
+
+
+def test_sharing_and_deleting_at_once_never_fail(owner, outsider, small_params):
+    """The owner deletes the plan in one window while sharing it, making a link or deleting it again in others."""
+    for n in range(10):
+        scenario = scenario_create(owner=owner, kind="stock_plan", title=f"Tyres {n}", params=small_params)
+
+        def post(name, data, scenario=scenario):
+            def job(barrier):
+                browser = browser_for(owner)
+                barrier.wait()
+                return browser.post(reverse(name, args=[scenario.pk]), data).status_code
+
+            return job
+
+        statuses = in_threads(
+            post("scenario_delete", {}),
+            post("scenario_delete", {}),
+            post("scenario_sharing", {"person": outsider.username, "role": "viewer"}),
+            post("scenario_link_create", {"label": "board"}),
+        )
+        assert statuses[0] in (302, 404) and statuses[1] in (302, 404) and 302 in statuses[:2], statuses
+        assert statuses[2] in (302, 404) and statuses[3] in (201, 404), statuses
+    assert not Scenario.objects.exists()
