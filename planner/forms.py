@@ -98,3 +98,7 @@ class LinkForm(forms.Form):
         max_value=366,
         help_text="Leave empty to keep the link open until you revoke it.",
     )
+
+
+class ApiTokenForm(forms.Form):
+    label = forms.CharField(label="Label (for you)", max_length=80, required=False, help_text="e.g. the weekly report")

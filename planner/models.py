@@ -169,3 +169,22 @@ class ScenarioLink(models.Model):
 
     def is_open(self, now) -> bool:
         return self.revoked is None and (self.expires is None or self.expires > now)
+
+
+class ApiToken(models.Model):
+    """A personal token for the JSON API (``Authorization: Bearer <token>``): acts as its user, with their roles.
+
+    Only the SHA-256 digest is kept; the token is shown once, when made (planner/services.py).
+    """
+
+    user = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.CASCADE, related_name="api_tokens")
+    digest = models.CharField(max_length=64, unique=True)
+    label = models.CharField(max_length=80, blank=True)
+    created = models.DateTimeField(auto_now_add=True)
+    revoked = models.DateTimeField(null=True, blank=True)
+
+    class Meta:
+        ordering = ["-created", "-id"]
+
+    def __str__(self) -> str:
+        return f"API token of {self.user} ({self.label or 'no label'})"

@@ -25,7 +25,7 @@ from django.http import Http404
 from django.utils import timezone
 
 from planner.kinds import get_kind
-from planner.models import Scenario, ScenarioLink, ScenarioShare, ScenarioVersion
+from planner.models import ApiToken, Scenario, ScenarioLink, ScenarioShare, ScenarioVersion
 from planner.reading import plan_headline
 
 EDITED_FIELDS = ("title", "notes", "parameters", "stockout_target", "overflow_target")
@@ -218,3 +218,16 @@ def scenario_restore(*, scenario: Scenario, version: ScenarioVersion, editor, ba
         editor=editor,
         restored_from=version.number,
     )
+
+
+def api_token_create(*, user, label: str = "") -> tuple[ApiToken, str]:
+    """A new API token for ``user`` and its text (256 random bits), returned once and never stored."""
+    token = secrets.token_urlsafe(32)
+    api_token = ApiToken(user=user, digest=ScenarioLink.digest_of(token), label=label)
+    api_token.full_clean()
+    api_token.save()
+    return api_token, token
+
+
+def api_token_revoke(*, api_token: ApiToken) -> None:
+    ApiToken.objects.filter(pk=api_token.pk, revoked__isnull=True).update(revoked=timezone.now())

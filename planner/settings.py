@@ -132,6 +132,7 @@ INSTALLED_APPS = [
     "whitenoise.runserver_nostatic",
     "django.contrib.staticfiles",
     "axes",
+    "ninja",  # serves the API documentation page's scripts from our static files (no CDN)
     "planner",
 ]
 

@@ -3,6 +3,7 @@ from django.contrib.auth import views as auth_views
 from django.urls import path
 
 from planner import views
+from planner.api import api
 
 urlpatterns = [
     path("", views.scenario_list, name="scenario_list"),
@@ -32,5 +33,8 @@ urlpatterns = [
     path("kinds/<slug:kind>/preview.json", views.kind_preview, name="kind_preview"),
     path("accounts/login/", auth_views.LoginView.as_view(redirect_authenticated_user=True), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),
+    path("account/api-tokens/", views.api_tokens, name="api_tokens"),
+    path("account/api-tokens/<int:token_id>/revoke/", views.api_token_revoke, name="api_token_revoke"),
+    path("api/", api.urls),
     path("admin/", admin.site.urls),
 ]

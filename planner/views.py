@@ -32,6 +32,7 @@ from django.views.decorators.http import require_GET, require_http_methods, requ
 from planner import comparison, history, permissions, reading, services
 from planner.csv_writer import file_name, rows_csv, table_csv
 from planner.forms import (
+    ApiTokenForm,
     EditBaseForm,
     LinkForm,
     SaveAsNewForm,
@@ -41,7 +42,7 @@ from planner.forms import (
     scenario_values,
 )
 from planner.kinds import all_kinds, get_kind
-from planner.models import Scenario, ScenarioLink, ScenarioShare
+from planner.models import ApiToken, Scenario, ScenarioLink, ScenarioShare
 from planner.permissions import EDIT, OWN, get_scenario_by_link, get_scenario_for
 
 
@@ -463,6 +464,28 @@ def scenario_compare_csv(request, table: str):
     response = HttpResponse(rows_csv(COMPARISON_TABLES[table](compared)), content_type="text/csv; charset=utf-8")
     response["Content-Disposition"] = f'attachment; filename="comparison-{table}.csv"'
     return response
+
+
+@login_required
+@require_http_methods(["GET", "POST"])
+def api_tokens(request):
+    """The user's personal tokens for the JSON API; POST makes one, whose text is shown on this answer only."""
+    form = ApiTokenForm(request.POST or None)
+    new_token = None
+    if form.is_valid():
+        new_token = services.api_token_create(user=request.user, label=form.cleaned_data["label"])[1]
+        form = ApiTokenForm()
+    context = {"form": form, "tokens": request.user.api_tokens.all(), "new_token": new_token}
+    return render(request, "planner/api_tokens.html", context, status=201 if new_token else 200)
+
+
+@login_required
+@require_POST
+def api_token_revoke(request, token_id: int):
+    api_token = get_object_or_404(ApiToken, pk=token_id, user=request.user)
+    services.api_token_revoke(api_token=api_token)
+    messages.success(request, f"The token “{api_token.label or 'without a label'}” no longer opens the API.")
+    return redirect("api_tokens")
 
 
 @login_required

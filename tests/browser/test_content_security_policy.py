@@ -32,3 +32,10 @@ def test_the_admin_pages_work_under_the_policy(page, live_server, scenario, djan
     page.wait_for_selector("#result_list")
     page.goto(f"{live_server.url}/admin/planner/scenario/{scenario.pk}/change/")
     page.wait_for_selector("#scenario_form")
+
+
+def test_the_api_documentation_page_draws_from_our_own_files(page, live_server):
+    page.goto(f"{live_server.url}/api/docs")
+    page.wait_for_selector(".swagger-ui .info .title", timeout=60_000)
+    assert "Fluctuation Planner API" in page.inner_text(".swagger-ui .info .title")
+    assert page.locator(".opblock").count() >= 8  # every operation listed

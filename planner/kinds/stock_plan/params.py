@@ -57,6 +57,23 @@ def _table(name: str, rows) -> tuple[tuple[int, float], ...]:
     return tuple(zip(values, (float(w) for w in weights), strict=True))
 
 
+def _json_list(name: str, value) -> tuple:
+    """A list from saved or sent JSON (empty when absent); ValueError for anything else."""
+    if value is None:
+        return ()
+    if not isinstance(value, list | tuple):
+        raise ValueError(f"{name} must be a list of numbers")
+    return tuple(value)
+
+
+def _json_rows(name: str, value) -> tuple[tuple, ...]:
+    """Rows of [value, probability] from JSON; ValueError for any other shape."""
+    rows = _json_list(name, value)
+    if not all(isinstance(row, list | tuple) and len(row) == 2 for row in rows):
+        raise ValueError(f"{name} must be a list of [value, probability] pairs")
+    return tuple(tuple(row) for row in rows)
+
+
 # Count laws kept across requests (at most 64 x MAX_LAW_WIDTH floats, about 10 MB).
 LAW_CACHE_SIZE = 64
 
@@ -161,13 +178,16 @@ class CountLaw:
     def from_json(cls, data: dict) -> CountLaw:
         if not isinstance(data, dict):
             raise ValueError("a count law must be an object with a 'family'")
-        return cls(
-            family=data.get("family"),
-            mean=data.get("mean"),
-            variance=data.get("variance"),
-            amount=data.get("amount"),
-            table=tuple(tuple(row) for row in data.get("table") or ()),
-        )
+        try:
+            return cls(
+                family=data.get("family"),
+                mean=data.get("mean"),
+                variance=data.get("variance"),
+                amount=data.get("amount"),
+                table=_json_rows("count table", data.get("table")),
+            )
+        except TypeError as exc:
+            raise ValueError(f"a count law holds a value of the wrong type ({exc})") from exc
 
 
 @dataclass(frozen=True)
@@ -336,9 +356,12 @@ class StockPlanParams:
         for name in ("arrivals", "demand"):
             if values.get(name) is not None:
                 values[name] = CountLaw.from_json(values[name])
-        values["table"] = tuple(tuple(row) for row in values.get("table") or ())
-        values["profile"] = tuple(values.get("profile") or ())
-        return cls(**values)
+        values["table"] = _json_rows("change table", values.get("table"))
+        values["profile"] = _json_list("demand profile", values.get("profile"))
+        try:
+            return cls(**values)
+        except TypeError as exc:  # a value of the wrong type (a list where a number belongs, say)
+            raise ValueError(f"parameters hold a value of the wrong type ({exc})") from exc
 
     # -- the laws (built once per request by the kind's job) -----------------
 
