@@ -49,6 +49,23 @@ def _count_law(law: CountLaw, scale: float) -> wm.StepLaw:
     return law._build(scale)
 
 
+def json_list(name: str, value) -> tuple:
+    """A list from saved or sent JSON (empty when absent); ValueError for anything else."""
+    if value is None:
+        return ()
+    if not isinstance(value, list | tuple):
+        raise ValueError(f"{name} must be a list of numbers")
+    return tuple(value)
+
+
+def json_rows(name: str, value) -> tuple[tuple, ...]:
+    """Rows of [value, probability] from JSON; ValueError for any other shape."""
+    rows = json_list(name, value)
+    if not all(isinstance(row, list | tuple) and len(row) == 2 for row in rows):
+        raise ValueError(f"{name} must be a list of [value, probability] pairs")
+    return tuple(tuple(row) for row in rows)
+
+
 @dataclass(frozen=True)
 class CountLaw:
     """Supply or demand in one period: a count law given by family and its numbers."""
@@ -144,10 +161,13 @@ class CountLaw:
     def from_json(cls, data: dict) -> CountLaw:
         if not isinstance(data, dict):
             raise ValueError("a count law must be an object with a 'family'")
-        return cls(
-            family=data.get("family"),
-            mean=data.get("mean"),
-            variance=data.get("variance"),
-            amount=data.get("amount"),
-            table=tuple(tuple(row) for row in data.get("table") or ()),
-        )
+        try:
+            return cls(
+                family=data.get("family"),
+                mean=data.get("mean"),
+                variance=data.get("variance"),
+                amount=data.get("amount"),
+                table=json_rows("count table", data.get("table")),
+            )
+        except TypeError as exc:
+            raise ValueError(f"a count law holds a value of the wrong type ({exc})") from exc

@@ -1,5 +1,7 @@
 """Saved planning scenarios. Parameters are JSON checked by the scenario's kind (``planner.kinds``)."""
 
+import hashlib
+
 from django.conf import settings
 from django.core.exceptions import ValidationError
 from django.db import models
@@ -30,6 +32,8 @@ class Scenario(models.Model):
     # recomputes plans; null for rows saved before it was kept.
     headline_risk = models.FloatField(null=True, blank=True)
     headline_span = models.CharField(max_length=60, blank=True)  # "56 days (8 weeks)"
+    # Raised by one at every save (planner/services.py): an edit based on an older number is refused.
+    version = models.PositiveIntegerField(default=1)
     created = models.DateTimeField(auto_now_add=True)
     updated = models.DateTimeField(auto_now=True)
 
@@ -49,6 +53,7 @@ class Scenario(models.Model):
                 condition=Q(headline_risk__isnull=True) | Q(headline_risk__gte=0, headline_risk__lte=1),
                 name="scenario_headline_risk_probability",
             ),
+            models.CheckConstraint(condition=Q(version__gte=1), name="scenario_version_positive"),
         ]
 
     def __str__(self) -> str:
@@ -71,6 +76,121 @@ class Scenario(models.Model):
     @property
     def meets_target(self) -> bool | None:
         return None if self.headline_risk is None else self.headline_risk <= self.stockout_target
+
+
+class ScenarioVersion(models.Model):
+    """What one save of a scenario wrote (its number, who, when, the fields a person edits): the plan's history.
+
+    Written by the write services in the same transaction as the save, so every version a scenario has had
+    is here (rows saved before history was kept start at the version they had then).
+    """
+
+    scenario = models.ForeignKey(Scenario, on_delete=models.CASCADE, related_name="versions")
+    number = models.PositiveIntegerField()
+    saved_by = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.SET_NULL, null=True, related_name="+")
+    saved_at = models.DateTimeField()
+    title = models.CharField(max_length=120)
+    notes = models.TextField(blank=True)
+    parameters = models.JSONField()
+    stockout_target = models.FloatField()
+    overflow_target = models.FloatField()
+    headline_risk = models.FloatField(null=True, blank=True)
+    headline_span = models.CharField(max_length=60, blank=True)
+    restored_from = models.PositiveIntegerField(null=True, blank=True)  # the version a restore copied
+
+    class Meta:
+        ordering = ["-number"]
+        constraints = [
+            models.UniqueConstraint(fields=["scenario", "number"], name="scenario_version_unique_number"),
+            models.CheckConstraint(condition=Q(number__gte=1), name="scenario_version_number_positive"),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.title} (version {self.number})"
+
+
+class ShareRole(models.TextChoices):
+    # planner/permissions.py says what each may do; the owner may do everything.
+    VIEWER = "viewer", "can view"
+    EDITOR = "editor", "can edit"
+
+
+class ScenarioShare(models.Model):
+    """A plan shared by its owner with one user or with everyone in one group, as viewer or editor."""
+
+    scenario = models.ForeignKey(Scenario, on_delete=models.CASCADE, related_name="shares")
+    user = models.ForeignKey(
+        settings.AUTH_USER_MODEL, on_delete=models.CASCADE, null=True, blank=True, related_name="+"
+    )
+    group = models.ForeignKey("auth.Group", on_delete=models.CASCADE, null=True, blank=True, related_name="+")
+    role = models.CharField(max_length=16, choices=ShareRole.choices, default=ShareRole.VIEWER)
+    created = models.DateTimeField(auto_now_add=True)
+
+    class Meta:
+        ordering = ["id"]
+        constraints = [
+            models.CheckConstraint(
+                condition=Q(user__isnull=False, group__isnull=True) | Q(user__isnull=True, group__isnull=False),
+                name="scenario_share_one_user_or_group",
+            ),
+            models.CheckConstraint(condition=Q(role__in=ShareRole.values), name="scenario_share_role_known"),
+            models.UniqueConstraint(
+                fields=["scenario", "user"], condition=Q(user__isnull=False), name="scenario_share_unique_user"
+            ),
+            models.UniqueConstraint(
+                fields=["scenario", "group"], condition=Q(group__isnull=False), name="scenario_share_unique_group"
+            ),
+        ]
+
+    def __str__(self) -> str:
+        return f"{self.scenario} shared with {self.user or self.group} ({self.get_role_display()})"
+
+
+class ScenarioLink(models.Model):
+    """A read-only link to a plan: whoever holds its token sees the plan, its charts and CSV tables, nothing else.
+
+    Only the SHA-256 digest of the token is kept (planner/services.py makes the token and shows it once),
+    so the database alone cannot open a plan.
+    """
+
+    scenario = models.ForeignKey(Scenario, on_delete=models.CASCADE, related_name="links")
+    digest = models.CharField(max_length=64, unique=True)
+    label = models.CharField(max_length=80, blank=True)
+    created = models.DateTimeField(auto_now_add=True)
+    expires = models.DateTimeField(null=True, blank=True)
+    revoked = models.DateTimeField(null=True, blank=True)
+
+    class Meta:
+        ordering = ["-created", "-id"]
+
+    def __str__(self) -> str:
+        return f"read-only link to {self.scenario} ({self.label or 'no label'})"
+
+    @staticmethod
+    def digest_of(token: str) -> str:
+        return hashlib.sha256(token.encode()).hexdigest()
+
+    def is_open(self, now) -> bool:
+        return self.revoked is None and (self.expires is None or self.expires > now)
+
+
+class ApiToken(models.Model):
+    """A personal token for the JSON API (``Authorization: Bearer <token>``): acts as its user, with their roles.
+
+    Only the SHA-256 digest is kept; the token is shown once, when made (planner/services.py).
+    """
+
+    user = models.ForeignKey(settings.AUTH_USER_MODEL, on_delete=models.CASCADE, related_name="api_tokens")
+    digest = models.CharField(max_length=64, unique=True)
+    label = models.CharField(max_length=80, blank=True)
+    created = models.DateTimeField(auto_now_add=True)
+    revoked = models.DateTimeField(null=True, blank=True)
+
+    class Meta:
+        ordering = ["-created", "-id"]
+
+    def __str__(self) -> str:
+        return f"API token of {self.user} ({self.label or 'no label'})"
 
 
 # Saved histories live in their own module; imported here so Django finds the model.

@@ -40,13 +40,14 @@ def saved_params(scenario) -> Any:
     return get_kind(scenario.kind).params_from_json(scenario.parameters)
 
 
-def _allowed(job) -> dict[str, int]:
-    """The parts this request computes, each with its budget in work units; together within the cap.
+def _allowed(job, cap: int | None = None) -> dict[str, int]:
+    """The parts this request computes, each with its budget in work units; together within ``cap`` (default:
+    the whole PLANNER_COMPUTE_CAP).
 
     ComputeTooLarge (the job's own message) if the required parts alone exceed the cap. Optional
     parts with a fixed price come next while they fit; parts that stop themselves share what is left.
     """
-    cap = settings.PLANNER_COMPUTE_CAP
+    cap = settings.PLANNER_COMPUTE_CAP if cap is None else cap
     parts = job.parts()
     spent = sum(part.units for part in parts if part.required)
     if spent > cap:
@@ -86,13 +87,14 @@ def law_preview(*, kind: Kind, form) -> dict:
     return kind.preview(form)
 
 
-def scenario_reading(*, scenario, changes: Mapping | None = None) -> Reading:
+def scenario_reading(*, scenario, changes: Mapping | None = None, share: int = 1) -> Reading:
     """The scenario's result, with ``changes`` (a kind's what-if values) applied when given.
 
+    ``share``: how many plans this request computes (the comparison page); each gets that part of the cap.
     Raises ValueError (ComputeTooLarge included) whose message names the input
     to change; nothing is computed before the cost check passes.
     """
-    return _read(scenario, changes, lambda kind: kind.prepare)
+    return _read(scenario, changes, lambda kind: kind.prepare, share)
 
 
 def scenario_cross_check(*, scenario, changes: Mapping | None = None) -> Reading:
@@ -100,17 +102,17 @@ def scenario_cross_check(*, scenario, changes: Mapping | None = None) -> Reading
 
     Http404 when the kind has no cross-check.
     """
-    return _read(scenario, changes, lambda kind: kind.cross_check)
+    return _read(scenario, changes, lambda kind: kind.cross_check, 1)
 
 
-def _read(scenario, changes: Mapping | None, job_maker) -> Reading:
+def _read(scenario, changes: Mapping | None, job_maker, share: int) -> Reading:
     kind = get_kind(scenario.kind)
     saved = kind.params_from_json(scenario.parameters)
     params = kind.apply_changes(saved, changes) if changes else saved
     job = job_maker(kind)(params, scenario.stockout_target, scenario.overflow_target)
     if job is None:
         raise Http404("This kind has no cross-check")
-    result = job.run(_allowed(job))
+    result = job.run(_allowed(job, settings.PLANNER_COMPUTE_CAP // share))
     described = tuple(kind.describe_changes(saved, params)) if params != saved else ()
     return Reading(kind=kind, params=params, result=result, changes=described)
 

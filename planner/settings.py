@@ -6,6 +6,21 @@ SECRET_KEY      required (32+ characters) when DEBUG is off; a fixed development
 DATABASE_URL    default: SQLite file db.sqlite3 beside manage.py
 ALLOWED_HOSTS   comma-separated, default "localhost,127.0.0.1,[::1]"
 PLANNER_COMPUTE_CAP  largest work one web request computes, in walkmath cost units, default 1200000000
+
+Behind TLS (README, "Deployment"); every default suits plain local http (`make run`):
+SECURE_SSL_REDIRECT             1/0, default 0: redirect http to https
+SESSION_COOKIE_SECURE           1/0, default 0: send the session cookie over https only
+CSRF_COOKIE_SECURE              1/0, default 0: send the CSRF cookie over https only
+SECURE_HSTS_SECONDS             whole seconds, default 0 (no Strict-Transport-Security header)
+SECURE_HSTS_INCLUDE_SUBDOMAINS  1/0, default 0
+SECURE_HSTS_PRELOAD             1/0, default 0
+CSRF_TRUSTED_ORIGINS            comma-separated origins with their scheme ("https://planner.example"), default none
+SECURE_PROXY_SSL_HEADER         "HEADER,value" as the proxy sets it, e.g. "HTTP_X_FORWARDED_PROTO,https";
+                                default none (only a proxy that always sets or strips that header may be trusted)
+PLANNER_PROXY_COUNT             how many proxies in front of the app append to X-Forwarded-For, default 0
+                                (the sign-in throttle then counts the address the last of them saw)
+AXES_FAILURE_LIMIT              failed sign-ins before a lockout, per account and per address, default 10
+AXES_COOLOFF_TIME               hours a lockout lasts, default 0.25 (15 minutes)
 """
 
 import os
@@ -31,9 +46,82 @@ SECRET_KEY = os.environ.get("SECRET_KEY", "" if not DEBUG else _DEV_KEY)
 if not DEBUG and (not SECRET_KEY or SECRET_KEY == _DEV_KEY or len(SECRET_KEY) < 32):
     raise ImproperlyConfigured("SECRET_KEY must be set to a random string of 32+ characters when DEBUG is off")
 
-ALLOWED_HOSTS = [
-    h.strip() for h in os.environ.get("ALLOWED_HOSTS", "localhost,127.0.0.1,[::1]").split(",") if h.strip()
-]
+
+def _list(name: str, default: str) -> list[str]:
+    return [item.strip() for item in os.environ.get(name, default).split(",") if item.strip()]
+
+
+def _whole(name: str, default: str, *, least: int = 1) -> int:
+    value = os.environ.get(name, default).strip()
+    if not value.isdigit() or int(value) < least:
+        raise ImproperlyConfigured(f"{name} must be a whole number at least {least}; got {value!r}")
+    return int(value)
+
+
+def _hours(name: str, default: str) -> float:
+    value = os.environ.get(name, default).strip()
+    try:
+        hours = float(value)
+    except ValueError:
+        hours = -1.0
+    if not 0 < hours <= 24 * 30:
+        raise ImproperlyConfigured(f"{name} must be a number of hours above 0 and at most 720; got {value!r}")
+    return hours
+
+
+def _origins(name: str) -> list[str]:
+    origins = _list(name, "")
+    for origin in origins:
+        if not origin.startswith(("https://", "http://")) or "/" in origin.split("://", 1)[1]:
+            raise ImproperlyConfigured(
+                f"{name} must list origins such as https://planner.example (scheme and host, no path); got {origin!r}"
+            )
+    return origins
+
+
+def _proxy_header(name: str) -> tuple[str, str] | None:
+    value = os.environ.get(name, "").strip()
+    if not value:
+        return None
+    header, _, expected = (part.strip() for part in value.partition(","))
+    if not header.startswith("HTTP_") or not expected or "," in expected:
+        raise ImproperlyConfigured(
+            f"{name} must be HEADER,value with the header as Django names it, e.g. HTTP_X_FORWARDED_PROTO,https; "
+            f"got {value!r}"
+        )
+    return header, expected
+
+
+ALLOWED_HOSTS = _list("ALLOWED_HOSTS", "localhost,127.0.0.1,[::1]")
+
+# TLS and the proxy in front (defaults: plain local http, as `make run` serves).
+SECURE_SSL_REDIRECT = _flag("SECURE_SSL_REDIRECT", "0")
+SESSION_COOKIE_SECURE = _flag("SESSION_COOKIE_SECURE", "0")
+CSRF_COOKIE_SECURE = _flag("CSRF_COOKIE_SECURE", "0")
+SECURE_HSTS_SECONDS = _whole("SECURE_HSTS_SECONDS", "0", least=0)
+SECURE_HSTS_INCLUDE_SUBDOMAINS = _flag("SECURE_HSTS_INCLUDE_SUBDOMAINS", "0")
+SECURE_HSTS_PRELOAD = _flag("SECURE_HSTS_PRELOAD", "0")
+CSRF_TRUSTED_ORIGINS = _origins("CSRF_TRUSTED_ORIGINS")
+SECURE_PROXY_SSL_HEADER = _proxy_header("SECURE_PROXY_SSL_HEADER")
+PLANNER_PROXY_COUNT = _whole("PLANNER_PROXY_COUNT", "0", least=0)
+
+# Every page loads its scripts, styles, images and data from this site only and runs no inline script
+# (planner/security.py sends it, adding the hashes of the few inline <style> elements it allows and saying
+# why plotly needs style attributes). plotly's image download makes data: and blob: images.
+CONTENT_SECURITY_POLICY = {
+    "default-src": "'self'",
+    "script-src": "'self'",
+    "style-src": "'self'",
+    "style-src-elem": "'self'",
+    "style-src-attr": "'unsafe-inline'",
+    "img-src": "'self' data: blob:",
+    "font-src": "'self'",
+    "connect-src": "'self'",
+    "object-src": "'none'",
+    "base-uri": "'none'",
+    "form-action": "'self'",
+    "frame-ancestors": "'none'",
+}
 
 INSTALLED_APPS = [
     "django.contrib.admin",
@@ -43,6 +131,8 @@ INSTALLED_APPS = [
     "django.contrib.messages",
     "whitenoise.runserver_nostatic",
     "django.contrib.staticfiles",
+    "axes",
+    "ninja",  # serves the API documentation page's scripts from our static files (no CDN)
     "planner",
 ]
 
@@ -55,6 +145,9 @@ MIDDLEWARE = [
     "django.contrib.auth.middleware.AuthenticationMiddleware",
     "django.contrib.messages.middleware.MessageMiddleware",
     "django.middleware.clickjacking.XFrameOptionsMiddleware",
+    "planner.security.ContentSecurityPolicyMiddleware",
+    # Last, as django-axes asks: it turns a lockout recorded during sign-in into the lockout page.
+    "axes.middleware.AxesMiddleware",
 ]
 
 ROOT_URLCONF = "planner.urls"
@@ -92,6 +185,23 @@ AUTH_PASSWORD_VALIDATORS = [
     {"NAME": "django.contrib.auth.password_validation.CommonPasswordValidator"},
 ]
 
+# Sign-in throttling (django-axes, a database record per failing account and address, so every worker
+# and every machine sees the same count): after AXES_FAILURE_LIMIT failures from one address, or for one
+# account, sign-in from that address or to that account is refused for AXES_COOLOFF_TIME hours, the right
+# password included. Failures during a lockout are not counted and do not extend it, so someone guessing
+# at an account keeps its owner out for at most AXES_COOLOFF_TIME after their last counted guess.
+AUTHENTICATION_BACKENDS = [
+    "axes.backends.AxesStandaloneBackend",
+    "django.contrib.auth.backends.ModelBackend",
+]
+AXES_FAILURE_LIMIT = _whole("AXES_FAILURE_LIMIT", "10")
+AXES_COOLOFF_TIME = _hours("AXES_COOLOFF_TIME", "0.25")
+AXES_LOCKOUT_PARAMETERS = ["username", "ip_address"]  # each counted on its own
+AXES_RESET_COOL_OFF_ON_FAILURE_DURING_LOCKOUT = False
+AXES_LOCKOUT_TEMPLATE = "registration/locked_out.html"
+AXES_CLIENT_IP_CALLABLE = "planner.security.client_address"
+AXES_DISABLE_ACCESS_LOG = True  # successful sign-ins are not logged; failures are (admin, "Access attempts")
+
 LOGIN_URL = "login"
 LOGIN_REDIRECT_URL = "/"
 LOGOUT_REDIRECT_URL = "login"
@@ -111,13 +221,6 @@ STORAGES = {
         else "whitenoise.storage.CompressedManifestStaticFilesStorage"
     },
 }
-
-
-def _whole(name: str, default: str) -> int:
-    value = os.environ.get(name, default).strip()
-    if not value.isdigit() or int(value) < 1:
-        raise ImproperlyConfigured(f"{name} must be a whole number at least 1; got {value!r}")
-    return int(value)
 
 
 # Largest work one web request computes, in the engine's cost units (level·period·jump, walkmath.cost;

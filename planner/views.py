@@ -25,16 +25,27 @@ import time
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
 from django.http import Http404, HttpResponse, JsonResponse
-from django.shortcuts import redirect, render
+from django.shortcuts import get_object_or_404, redirect, render
 from django.template.loader import render_to_string
+from django.urls import reverse
+from django.utils import timezone
 from django.views.decorators.http import require_GET, require_http_methods, require_POST
 
-from planner import reading, services
-from planner.csv_writer import file_name, table_csv
-from planner.forms import SaveAsNewForm, scenario_initial, scenario_values
+from planner import comparison, permissions, reading, services, version_diff
+from planner.csv_writer import file_name, rows_csv, table_csv
+from planner.forms import (
+    ApiTokenForm,
+    EditBaseForm,
+    LinkForm,
+    SaveAsNewForm,
+    ShareChangeForm,
+    ShareForm,
+    scenario_initial,
+    scenario_values,
+)
 from planner.kinds import all_kinds, get_kind
-from planner.models import Scenario
-from planner.permissions import get_scenario_for
+from planner.models import ApiToken, Scenario, ScenarioLink, ScenarioShare
+from planner.permissions import EDIT, OWN, get_scenario_by_link, get_scenario_for
 
 
 class InvalidChanges(ValueError):
@@ -60,7 +71,8 @@ def _results_context(result_reading: reading.Reading) -> dict:
 @require_GET
 def scenario_list(request):
     scenarios = Scenario.objects.filter(owner=request.user)
-    return render(request, "planner/scenario_list.html", {"scenarios": scenarios})
+    shared = permissions.shared_with(request.user)
+    return render(request, "planner/scenario_list.html", {"scenarios": scenarios, "shared": shared})
 
 
 @login_required
@@ -91,24 +103,70 @@ def scenario_new_kind(request, kind: str):
 @login_required
 @require_http_methods(["GET", "POST"])
 def scenario_edit(request, pk: int):
-    scenario = get_scenario_for(request.user, pk)
+    if request.method == "POST":
+        return _scenario_edit_save(request, pk)
+    scenario = get_scenario_for(request.user, pk, EDIT)
     kind = get_kind(scenario.kind)
-    form = kind.scenario_form(request.POST or None, initial=scenario_initial(scenario, kind))
-    if request.method == "POST" and form.is_valid():
-        try:
-            services.scenario_update(scenario=scenario, **scenario_values(form))
-        except ValueError as exc:  # the plan cannot be computed (ComputeTooLarge or an engine limit)
-            form.add_error(None, f"Nothing was saved. {exc}")
-        else:
-            messages.success(request, f"Updated “{scenario.title}”.")
-            return redirect(scenario)
-    return render(request, "planner/scenario_form.html", {"form": form, "kind": kind, "scenario": scenario})
+    form = kind.scenario_form(initial=scenario_initial(scenario, kind))
+    return _edit_page(request, form, kind, scenario, based_on=scenario.version)
+
+
+def _edit_page(request, form, kind, scenario, *, based_on, status=200, **extra):
+    context = {"form": form, "kind": kind, "scenario": scenario, "based_on": based_on} | extra
+    return render(request, "planner/scenario_form.html", context, status=status)
+
+
+def _scenario_edit_save(request, pk: int):
+    """Save an edit started from the version the form names; a conflict or a deleted plan keeps the values."""
+    base = EditBaseForm(request.POST)
+    try:
+        scenario = get_scenario_for(request.user, pk, EDIT)
+    except Http404:
+        return _edit_of_missing_plan(request, base)
+    kind = get_kind(scenario.kind)
+    form = kind.scenario_form(request.POST)
+    based_on = base.cleaned_data["version"] if base.is_valid() else None
+    if not form.is_valid():
+        return _edit_page(request, form, kind, scenario, based_on=based_on)
+    try:
+        if based_on is None:  # a form from before versions were kept: treat it as stale
+            raise services.EditConflict(current=scenario, based_on=None)
+        services.scenario_update(scenario=scenario, editor=request.user, based_on=based_on, **scenario_values(form))
+    except services.EditConflict as exc:
+        return _edit_conflict(request, form, kind, exc.current, based_on)
+    except services.PlanGone:
+        return _edit_of_missing_plan(request, base)
+    except ValueError as exc:  # the plan cannot be computed (ComputeTooLarge or an engine limit)
+        form.add_error(None, f"Nothing was saved. {exc}")
+        return _edit_page(request, form, kind, scenario, based_on=based_on)
+    messages.success(request, f"Updated “{scenario.title}”.")
+    return redirect(scenario)
+
+
+def _edit_conflict(request, form, kind, current, based_on):
+    """409: what was saved since the edit began, beside the refused values, which stay in the form."""
+    versions = {v.number: v for v in current.versions.select_related("saved_by").filter(number__in=[based_on or 0])}
+    latest = current.versions.select_related("saved_by").first()
+    base = version_diff.snapshot(versions[based_on]) if based_on in versions else None
+    rows = version_diff.conflict(kind, base=base, current=version_diff.snapshot(current), form=form)
+    conflict = {"rows": rows, "base": based_on, "latest": latest}
+    return _edit_page(request, form, kind, current, based_on=current.version, status=409, conflict=conflict)
+
+
+def _edit_of_missing_plan(request, base):
+    """404, as for any plan out of reach, but with the values sent kept in a form that saves them as a new plan."""
+    if not base.is_valid():
+        raise Http404("No such scenario")
+    kind = get_kind(base.cleaned_data["kind"])
+    form = kind.scenario_form(request.POST)
+    context = {"form": form, "kind": kind, "gone": True}
+    return render(request, "planner/scenario_form.html", context, status=404)
 
 
 @login_required
 @require_http_methods(["GET", "POST"])
 def scenario_delete(request, pk: int):
-    scenario = get_scenario_for(request.user, pk)
+    scenario = get_scenario_for(request.user, pk, OWN)
     if request.method == "POST":
         services.scenario_delete(scenario=scenario)
         messages.success(request, f"Deleted “{scenario.title}”.")
@@ -220,6 +278,245 @@ def scenario_csv(request, pk: int, table: str):
         f'attachment; filename="{file_name(scenario.title, table, whatif=found.is_whatif)}"'
     )
     return response
+
+
+def _sharing_page(request, scenario, *, form=None, link_form=None, new_link=None, status=200):
+    context = {
+        "scenario": scenario,
+        "form": form or ShareForm(owner=scenario.owner),
+        "link_form": link_form or LinkForm(),
+        "shares": scenario.shares.select_related("user", "group"),
+        "links": scenario.links.all(),
+        "now": timezone.now(),
+        "new_link": new_link,
+    }
+    return render(request, "planner/scenario_sharing.html", context, status=status)
+
+
+@login_required
+@require_http_methods(["GET", "POST"])
+def scenario_sharing(request, pk: int):
+    """The owner's page of who else may see or edit the plan, and its read-only links; POST adds a share."""
+    scenario = get_scenario_for(request.user, pk, OWN)
+    form = ShareForm(request.POST or None, owner=scenario.owner)
+    if not form.is_valid():
+        return _sharing_page(request, scenario, form=form, status=400 if form.errors else 200)
+    data = form.cleaned_data
+    share = services.share_set(scenario=scenario, user=data["user"], group=data["group_found"], role=data["role"])
+    messages.success(
+        request, f"“{scenario.title}” is shared with {share.user or share.group}: {share.get_role_display()}."
+    )
+    return redirect("scenario_sharing", pk=scenario.pk)
+
+
+@login_required
+@require_POST
+def scenario_share_change(request, pk: int, share_id: int):
+    """The owner changes a share's role or removes it."""
+    scenario = get_scenario_for(request.user, pk, OWN)
+    share = get_object_or_404(ScenarioShare.objects.select_related("user", "group"), pk=share_id, scenario=scenario)
+    form = ShareChangeForm(request.POST)
+    who = share.user or share.group
+    if not form.is_valid():
+        messages.error(request, "Choose “can view”, “can edit” or remove.")
+    elif form.cleaned_data["role"] == "remove":
+        services.share_remove(share=share)
+        messages.success(request, f"{who} no longer has access to “{scenario.title}”.")
+    else:
+        share = services.share_set(
+            scenario=scenario, user=share.user, group=share.group, role=form.cleaned_data["role"]
+        )
+        messages.success(request, f"{who} now {share.get_role_display()} “{scenario.title}”.")
+    return redirect("scenario_sharing", pk=scenario.pk)
+
+
+@login_required
+@require_POST
+def scenario_link_create(request, pk: int):
+    """A new read-only link; its address is shown on this answer only (the token is not kept)."""
+    scenario = get_scenario_for(request.user, pk, OWN)
+    form = LinkForm(request.POST)
+    if not form.is_valid():
+        return _sharing_page(request, scenario, link_form=form, status=400)
+    link, token = services.link_create(scenario=scenario, **form.cleaned_data)
+    address = request.build_absolute_uri(reverse("link_results", args=[token]))
+    return _sharing_page(request, scenario, new_link={"link": link, "address": address}, status=201)
+
+
+@login_required
+@require_POST
+def scenario_link_revoke(request, pk: int, link_id: int):
+    scenario = get_scenario_for(request.user, pk, OWN)
+    link = get_object_or_404(ScenarioLink, pk=link_id, scenario=scenario)
+    services.link_revoke(link=link)
+    messages.success(request, f"The read-only link “{link.label or 'without a label'}” no longer opens the plan.")
+    return redirect("scenario_sharing", pk=scenario.pk)
+
+
+def _link_response(response):
+    # The address is the key: keep it out of caches, search engines and Referer headers.
+    response["Cache-Control"] = "no-store"
+    response["X-Robots-Tag"] = "noindex, nofollow"
+    response["Referrer-Policy"] = "no-referrer"
+    return response
+
+
+@require_GET
+def link_results(request, token: str):
+    """The plan a read-only link opens: figures, charts and CSV tables of the saved plan, no controls."""
+    scenario = get_scenario_by_link(token)
+    kind = get_kind(scenario.kind)
+    context = {"scenario": scenario, "kind": kind, "token": token}
+    try:
+        context["params"] = scenario.params
+        context |= _results_context(reading.scenario_reading(scenario=scenario))
+    except ValueError as exc:
+        context["error"] = str(exc)
+    return _link_response(render(request, "planner/link_results.html", context))
+
+
+@require_GET
+def link_csv(request, token: str, table: str):
+    """A CSV table of the saved plan a read-only link opens (what-if values are not taken)."""
+    scenario = get_scenario_by_link(token)
+    kind = get_kind(scenario.kind)
+    if table not in kind.tables:
+        raise Http404("No such table")
+    try:
+        found = reading.scenario_reading(scenario=scenario)
+    except ValueError as exc:
+        return _link_response(HttpResponse(str(exc), status=400, content_type="text/plain; charset=utf-8"))
+    body = table_csv(kind.table_rows(found.result, table), title=scenario.title)
+    response = HttpResponse(body, content_type="text/csv; charset=utf-8")
+    response["Content-Disposition"] = f'attachment; filename="{file_name(scenario.title, table)}"'
+    return _link_response(response)
+
+
+HISTORY_SHOWN = 100  # versions listed on the history page, newest first
+
+
+@login_required
+@require_GET
+def scenario_history(request, pk: int):
+    """Every saved version of the plan: who, when, the headline risk and what each save changed."""
+    scenario = get_scenario_for(request.user, pk)
+    kind = get_kind(scenario.kind)
+    # one more than shown, to tell what the oldest shown one changed
+    versions = list(scenario.versions.select_related("saved_by")[: HISTORY_SHOWN + 1])
+    entries = version_diff.changes_by_version(kind, versions)[:HISTORY_SHOWN]
+    context = {"scenario": scenario, "kind": kind, "entries": entries, "more": scenario.version > HISTORY_SHOWN}
+    return render(request, "planner/scenario_history.html", context)
+
+
+@login_required
+@require_GET
+def scenario_version(request, pk: int, number: int):
+    """One saved version: its values and what bringing it back would change."""
+    scenario = get_scenario_for(request.user, pk)
+    version = get_object_or_404(scenario.versions.select_related("saved_by"), number=number)
+    kind = get_kind(scenario.kind)
+    context = {
+        "scenario": scenario,
+        "version": version,
+        "values": version_diff.form_texts(kind, version_diff.snapshot(version)).values(),
+        "restoring": version_diff.differences(kind, version_diff.snapshot(scenario), version_diff.snapshot(version)),
+    }
+    return render(request, "planner/scenario_version.html", context)
+
+
+@login_required
+@require_POST
+def scenario_version_restore(request, pk: int, number: int):
+    """Bring an earlier version back as the plan's next version (editors and the owner)."""
+    scenario = get_scenario_for(request.user, pk, EDIT)
+    version = get_object_or_404(scenario.versions, number=number)
+    base = EditBaseForm(request.POST)
+    based_on = base.cleaned_data["version"] if base.is_valid() else 0
+    try:
+        services.scenario_restore(scenario=scenario, version=version, editor=request.user, based_on=based_on)
+    except services.EditConflict as exc:
+        messages.error(
+            request,
+            f"Nothing was restored: the plan was saved again (it is now version {exc.current.version}) after you "
+            "opened this page. Check what restoring would change now, then restore again.",
+        )
+        return redirect("scenario_version", pk=scenario.pk, number=number)
+    except services.PlanGone:
+        raise Http404("No such scenario") from None
+    except ValueError as exc:
+        messages.error(request, f"Nothing was restored: version {number} cannot be worked out now. {exc}")
+        return redirect("scenario_version", pk=scenario.pk, number=number)
+    messages.success(request, f"Version {number} is back as version {scenario.version} of “{scenario.title}”.")
+    return redirect("scenario_history", pk=scenario.pk)
+
+
+COMPARISON_TABLES = {"key-figures": comparison.figures_csv_rows, "risk-curves": comparison.curves_csv_rows}
+
+
+def _plans_to_compare(request) -> list[Scenario]:
+    """The plans named by ``plan`` in the query, each one the user may see (404 otherwise); ValueError with
+    the analyst's message when there are not 2 to 4 different ones."""
+    chosen = list(dict.fromkeys(request.GET.getlist("plan")))
+    if not all(pk.isdigit() for pk in chosen) or not comparison.MIN_PLANS <= len(chosen) <= comparison.MAX_PLANS:
+        raise ValueError(
+            f"Choose {comparison.MIN_PLANS} to {comparison.MAX_PLANS} plans to compare (tick them in the list); "
+            f"{len(chosen)} {'was' if len(chosen) == 1 else 'were'} chosen."
+        )
+    return [get_scenario_for(request.user, int(pk)) for pk in chosen]
+
+
+@login_required
+@require_GET
+def scenario_compare(request):
+    """2 to 4 plans side by side: their risk curves on one chart and key figures in one table."""
+    try:
+        scenarios = _plans_to_compare(request)
+    except ValueError as exc:
+        return render(request, "planner/scenario_compare.html", {"error": str(exc)}, status=400)
+    compared = comparison.compare(scenarios)
+    context = {
+        "compared": compared,
+        "rows": comparison.figure_rows(compared),
+        "figures": {"compare": comparison.figure(compared)},
+        "query": request.GET.urlencode(),
+    }
+    return render(request, "planner/scenario_compare.html", context)
+
+
+@login_required
+@require_GET
+def scenario_compare_csv(request, table: str):
+    if table not in COMPARISON_TABLES:
+        raise Http404("No such table")
+    try:
+        compared = comparison.compare(_plans_to_compare(request))
+    except ValueError as exc:
+        return HttpResponse(str(exc), status=400, content_type="text/plain; charset=utf-8")
+    response = HttpResponse(rows_csv(COMPARISON_TABLES[table](compared)), content_type="text/csv; charset=utf-8")
+    response["Content-Disposition"] = f'attachment; filename="comparison-{table}.csv"'
+    return response
+
+
+@login_required
+@require_http_methods(["GET", "POST"])
+def api_tokens(request):
+    """The user's personal tokens for the JSON API; POST makes one, whose text is shown on this answer only."""
+    form = ApiTokenForm(request.POST or None)
+    new_token = None
+    if form.is_valid():
+        new_token = services.api_token_create(user=request.user, label=form.cleaned_data["label"])[1]
+        form = ApiTokenForm()
+    context = {"form": form, "tokens": request.user.api_tokens.all(), "new_token": new_token}
+    return render(request, "planner/api_tokens.html", context, status=201 if new_token else 200)
+
+
+@login_required
+@require_POST
+def api_token_revoke(request, token_id: int):
+    api_token = get_object_or_404(ApiToken, pk=token_id, user=request.user)
+    services.api_token_revoke(api_token=api_token)
+    messages.success(request, f"The token “{api_token.label or 'without a label'}” no longer opens the API.")
+    return redirect("api_tokens")
 
 
 @login_required

@@ -35,6 +35,21 @@ class Part:
     stops_itself: bool = False
 
 
+@dataclass(frozen=True)
+class Comparable:
+    """What the comparison page shows of one plan: one risk curve over its periods and its key figures.
+
+    ``figures`` are (label, text as the page shows it, machine value for the CSV or None). Plans are
+    compared figure by figure under the same label.
+    """
+
+    curve: str  # what the curve is, e.g. "chance of at least one stock-out by each day"
+    period: str  # the plan's period (its x values count them)
+    x: list[int]
+    y: list[float]
+    figures: list[tuple[str, str, float | None]]
+
+
 class Kind:
     """What a scenario kind provides to the shared plumbing; subclass it in the kind's package.
 
@@ -124,6 +139,10 @@ class Kind:
     def fit_note(self, fitted) -> str:
         """What a plan made from ``fitted`` assumed beyond the history, for its notes ("" by default)."""
         return ""
+
+    def comparable(self, result) -> Comparable | None:
+        """The plan's curve and key figures for the comparison page (None: this kind is not compared yet)."""
+        return None
 
     def preview_form(self, data):
         """The form behind the live preview (None: the kind has no preview)."""

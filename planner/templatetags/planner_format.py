@@ -37,3 +37,10 @@ def period_name(period: str, count=1) -> str:
 @register.filter
 def rate(value, period: str = "day") -> str:
     return formatting.rate(value, period)
+
+
+@register.filter
+def minutes(value) -> str:
+    """A timedelta in whole minutes, rounded up: timedelta(minutes=15) -> '15 minutes'."""
+    count = max(1, -(-int(value.total_seconds()) // 60))
+    return f"{count} minute{'s' if count != 1 else ''}"

@@ -46,17 +46,37 @@ def browser():
         browser.close()
 
 
+# Each page reports what the Content-Security-Policy refused (planner/security.py), so every browser test
+# also shows that the pages, the charts and their toolbars work with the policy on.
+REPORT_REFUSALS = """
+window.__refused = [];
+document.addEventListener("securitypolicyviolation", e => {
+  const what = e.target && e.target.outerHTML ? e.target.outerHTML.slice(0, 120) : e.blockedURI;
+  window.__refused.push(`${e.violatedDirective} refused ${what} (${e.sourceFile}:${e.lineNumber})`);
+});
+"""
+
+
 @pytest.fixture
 def page(browser):
-    """A fresh page that also records every request leaving this machine (charts must work offline)."""
+    """A fresh page that records every request leaving this machine (charts must work offline) and
+    everything the Content-Security-Policy refused; the test fails on either."""
     context = browser.new_context(viewport={"width": 1400, "height": 1000}, accept_downloads=True)
+    context.add_init_script(REPORT_REFUSALS)
     page = context.new_page()
     page.set_default_timeout(20_000)
-    outside = []
+    outside, refused = [], []
     page.on("request", lambda request: outside.append(request.url) if _leaves_machine(request.url) else None)
+    # A page that navigates away takes its list with it; the console keeps the browser's own report.
+    page.on(
+        "console", lambda message: refused.append(message.text) if "Content Security Policy" in message.text else None
+    )
     yield page
+    if not page.is_closed():
+        refused.extend(page.evaluate("window.__refused || []"))
     context.close()
     assert not outside, f"the page fetched from outside this machine: {outside[:3]}"
+    assert not refused, "the Content-Security-Policy refused:\n" + "\n".join(refused[:5])
 
 
 def _leaves_machine(url: str) -> bool:

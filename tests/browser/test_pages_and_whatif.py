@@ -17,6 +17,7 @@ from urllib.parse import urlsplit
 
 import pytest
 
+from planner import services
 from tests.conftest import PASSWORD
 
 pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
@@ -77,12 +78,17 @@ def test_no_page_scrolls_sideways(page, live_server, scenario, width):
     seen = {"sign-in": overflow(page)}
     sign_in(page, live_server)
     base = f"{live_server.url}/scenarios/{scenario.pk}"
+    link_token = services.link_create(scenario=scenario, label="for the board")[1]
     for name, url in [
         ("list", f"{live_server.url}/"),
         ("new", f"{live_server.url}/scenarios/new/"),
         ("results", f"{base}/"),
         ("edit", f"{base}/edit/"),
         ("delete", f"{base}/delete/"),
+        ("sharing", f"{base}/sharing/"),
+        ("history", f"{base}/history/"),
+        ("version", f"{base}/history/1/"),
+        ("read-only link", f"{live_server.url}/view/{link_token}/"),
         ("not found", f"{live_server.url}/no/such/page/"),
     ]:
         page.goto(url)
@@ -90,7 +96,7 @@ def test_no_page_scrolls_sideways(page, live_server, scenario, width):
             # a page that lists the kinds first: follow the first kind to its form
             page.click("main a[href^='/scenarios/new/']:not([href='/scenarios/new/'])")
             page.wait_for_selector("#scenario-form")
-        if name == "results":
+        if name in {"results", "read-only link"}:
             wait_for_charts(page)
         if name in {"new", "edit"}:
             # the live preview has answered (shown, or waiting for inputs on an untouched form)

@@ -1,10 +1,11 @@
-"""Migration 0002: rows of the first release keep working (their kind is renamed, the headline starts empty)."""
+"""Migrations keep old rows working: 0002 renames the first release's kind and starts the headline empty; 0003
+gives every plan version 1 and records it as the start of its history."""
 
 import pytest
 from django.db import connection
 from django.db.migrations.executor import MigrationExecutor
 
-from planner.models import Scenario
+from planner.models import Scenario, ScenarioVersion
 from planner.reading import scenario_reading
 
 
@@ -31,3 +32,33 @@ def test_first_release_rows_are_migrated(owner):
     assert scenario.kind == "stock_plan" and scenario.headline_risk is None
     assert scenario.params.period == "day"
     assert scenario_reading(scenario=scenario).result.stockout_risk > 0
+
+
+@pytest.mark.django_db(transaction=True)
+def test_plans_saved_before_versions_start_their_history_at_version_1(owner):
+    executor = MigrationExecutor(connection)
+    executor.migrate([("planner", "0002_stock_plan_headline")])
+    old_apps = executor.loader.project_state([("planner", "0002_stock_plan_headline")]).apps
+    old = old_apps.get_model("planner", "Scenario").objects.create(
+        owner_id=owner.pk,
+        title="Rye loaf shelf",
+        notes="Back shelf.",
+        parameters={"start": 4, "horizon": 12, "step_method": "nearest", "up": 0.3, "down": 0.4},
+        stockout_target=0.05,
+        overflow_target=0.01,
+        headline_risk=0.2,
+        headline_span="12 days",
+    )
+    executor = MigrationExecutor(connection)
+    executor.loader.build_graph()
+    executor.migrate(executor.loader.graph.leaf_nodes())
+    scenario = Scenario.objects.get(pk=old.pk)
+    first = ScenarioVersion.objects.get(scenario=scenario)
+    assert scenario.version == first.number == 1
+    assert (first.saved_by_id, first.saved_at, first.title, first.notes) == (
+        owner.pk,
+        old.updated,
+        old.title,
+        old.notes,
+    )
+    assert (first.parameters, first.overflow_target, first.headline_risk) == (old.parameters, 0.01, 0.2)

@@ -186,7 +186,9 @@ def test_owner_edits_a_scenario(client, scenario):
     page = client.get(url_for("scenario_edit", scenario, {}))
     assert page.status_code == 200 and b'value="Rye loaf shelf"' in page.content
     assert b'name="stockout_target" value="5"' in page.content
+    assert b'name="version" value="1"' in page.content  # the version this edit starts from
     data = {
+        "version": "1",
         "title": "Rye loaf shelf",
         "period": "day",
         "start": "5",

@@ -12,7 +12,7 @@ import numpy as np
 
 from planner.formatting import rate
 from planner.kinds import Kind, Part, register
-from planner.kinds.stock_plan import charts, crosscheck, from_fit, tables
+from planner.kinds.stock_plan import charts, comparison, crosscheck, from_fit, tables
 from planner.kinds.stock_plan.compute import StockJob
 from planner.kinds.stock_plan.forms import ChangeLawForm, StockPlanForm, WhatIfForm, form_initial
 from planner.kinds.stock_plan.params import StockPlanParams
@@ -79,6 +79,9 @@ class StockPlan(Kind):
 
     def fit_note(self, fitted) -> str:
         return from_fit.fit_note(fitted)
+
+    def comparable(self, result):
+        return comparison.comparable(result)
 
     def preview_form(self, data):
         return ChangeLawForm(data)

@@ -20,7 +20,7 @@ import math
 from dataclasses import dataclass
 
 import walkmath as wm
-from planner.count_law import MAX_JUMP, SCALABLE_FAMILIES, CountLaw, value_table
+from planner.count_law import MAX_JUMP, SCALABLE_FAMILIES, CountLaw, json_list, json_rows, value_table
 from planner.formatting import PERIODS
 from walkmath import checks
 
@@ -201,9 +201,12 @@ class StockPlanParams:
         for name in ("arrivals", "demand"):
             if values.get(name) is not None:
                 values[name] = CountLaw.from_json(values[name])
-        values["table"] = tuple(tuple(row) for row in values.get("table") or ())
-        values["profile"] = tuple(values.get("profile") or ())
-        return cls(**values)
+        values["table"] = json_rows("change table", values.get("table"))
+        values["profile"] = json_list("demand profile", values.get("profile"))
+        try:
+            return cls(**values)
+        except TypeError as exc:  # a value of the wrong type (a list where a number belongs, say)
+            raise ValueError(f"parameters hold a value of the wrong type ({exc})") from exc
 
     # -- the laws (built once per request by the kind's job) -----------------
 

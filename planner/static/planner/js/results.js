@@ -9,6 +9,7 @@
   var form = document.getElementById("whatif-form");
   var status = document.getElementById("whatif-status");
   var headline = document.getElementById("headline");
+  if (!form) { draw(figures); return; } // a read-only page: the saved plan's charts, no what-if
   var NOT_QUERIED = ["csrfmiddlewaretoken", "title", "name"]; // the save form's own fields
   var pending = null;
   var running = null; // { controller, sequence } of the request in flight

@@ -107,7 +107,9 @@ def test_the_edit_form_starts_from_the_saved_table(client, owner):
     client.force_login(owner)
     page = client.get(reverse("scenario_edit", args=[scenario.pk])).content.decode()
     assert "1: 0.002, 0.05" in page and 'name="availability_target" value="99.9"' in page
-    saved = client.post(reverse("scenario_edit", args=[scenario.pk]), GOOD | {"shortage_at": "3"})
+    saved = client.post(
+        reverse("scenario_edit", args=[scenario.pk]), GOOD | {"shortage_at": "3", "version": str(scenario.version)}
+    )
     assert saved.status_code == 302 and Scenario.objects.get(pk=scenario.pk).params.shortage_at == 3
 
 

@@ -93,7 +93,10 @@ def test_a_plan_too_large_for_the_server_is_refused_politely(client, igniters, s
     page = client.get(igniters.get_absolute_url()).content.decode()
     assert "These results cannot be worked out as set." in page
     assert "too large to work out in one request" in page and "shorten the lead time" in page
-    response = client.post(reverse("scenario_edit", kwargs={"pk": igniters.pk}), GOOD | {"lead_time": "9"})
+    response = client.post(
+        reverse("scenario_edit", kwargs={"pk": igniters.pk}),
+        GOOD | {"lead_time": "9", "version": str(igniters.version)},
+    )
     assert response.status_code == 200 and "Nothing was saved." in response.content.decode()
     assert Scenario.objects.get().params.lead_time == 4
 

@@ -93,7 +93,10 @@ def test_the_edit_form_starts_from_the_saved_pool(client, owner):
     client.force_login(owner)
     page = client.get(reverse("scenario_edit", args=[scenario.pk])).content.decode()
     assert 'name="availability_target" value="99.9"' in page and 'name="mission" value="200.0"' in page
-    saved = client.post(reverse("scenario_edit", args=[scenario.pk]), GOOD | {"title": "Oven igniters", "spares": "4"})
+    saved = client.post(
+        reverse("scenario_edit", args=[scenario.pk]),
+        GOOD | {"title": "Oven igniters", "spares": "4", "version": str(scenario.version)},
+    )
     assert saved.status_code == 302 and Scenario.objects.get(pk=scenario.pk).params.spares == 4
 
 

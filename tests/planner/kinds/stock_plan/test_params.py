@@ -1,6 +1,7 @@
 """StockPlanParams: validation, JSON round trip (old shapes too), caps before building, and the laws it builds."""
 
 import math
+import re
 from fractions import Fraction
 
 import numpy as np
@@ -256,3 +257,20 @@ def test_count_laws_are_built_once_and_shared(monkeypatch):
     shared = plan.demand.law(1.5)
     assert shared is plan.replace(start=3).demand.law(1.5) and not shared.probs.flags.writeable
     assert module._count_law.cache_info().maxsize == module.LAW_CACHE_SIZE
+
+
+@pytest.mark.parametrize(
+    ("data", "message"),
+    [
+        ({"start": 1, "horizon": 2, "profile": 3}, "demand profile must be a list of numbers"),
+        ({"start": 1, "horizon": 2, "step_method": "table", "table": 5}, "change table must be a list"),
+        ({"start": 1, "horizon": 2, "step_method": "table", "table": [1, 2]}, "[value, probability] pairs"),
+        ({"start": 1, "horizon": 2, "step_method": "net", "demand": {"family": "table", "table": [[1]]}}, "count"),
+        ({"start": [1], "horizon": 2, "up": 0.1, "down": 0.1}, "start stock"),
+        ({"start": 1, "horizon": {"a": 1}, "up": 0.1, "down": 0.1}, "horizon"),
+    ],
+)
+def test_json_of_the_wrong_shape_is_refused_with_a_message(data, message):
+    # JSON now also arrives from the API: every wrong shape is a ValueError naming what is wrong, never a TypeError.
+    with pytest.raises(ValueError, match=re.escape(message)):
+        StockPlanParams.from_json(data)
