@@ -20,6 +20,7 @@ from ninja import Field, NinjaAPI, Schema, Status
 from ninja.errors import AuthenticationError
 from ninja.errors import ValidationError as RequestValidationError
 from ninja.security import HttpBearer, django_auth
+from pydantic import field_validator
 
 from planner import permissions, reading, services
 from planner.kinds import all_kinds, get_kind
@@ -102,7 +103,21 @@ def _conflict(request, exc):
     return _problem(request, message, 409, {"version": [f"now {exc.current.version}"]})
 
 
-class PlanIn(Schema):
+def _no_nul(value: str) -> str:
+    # Forms refuse NUL characters (Django's ProhibitNullCharactersValidator); PostgreSQL cannot store them.
+    if "\x00" in value:
+        raise ValueError("must not contain NUL characters")
+    return value
+
+
+class _PlanText(Schema):
+    @field_validator("title", "notes", check_fields=False)
+    @classmethod
+    def _text(cls, value: str) -> str:
+        return _no_nul(value)
+
+
+class PlanIn(_PlanText):
     kind: str = Field("stock_plan", description="a kind key from GET /api/kinds")
     title: str = Field(..., min_length=1, max_length=120)
     notes: str = Field("", max_length=10_000)
@@ -111,7 +126,7 @@ class PlanIn(Schema):
     overflow_target: float = Field(0.05, gt=0, lt=1, description="largest acceptable overflow risk (a fraction)")
 
 
-class PlanUpdate(Schema):
+class PlanUpdate(_PlanText):
     version: int = Field(..., ge=1, description="the version this change is based on (from PlanOut.version)")
     title: str = Field(..., min_length=1, max_length=120)
     notes: str = Field("", max_length=10_000)

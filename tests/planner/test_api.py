@@ -148,6 +148,7 @@ def test_create_and_read_back(owner, small_params):
         ),
         ({"kind": "silo_fill"}, "kind", "kind must be one of rate_table, reorder_plan, spares_pool, stock_plan"),
         ({"title": None}, "title", "valid string"),
+        ({"notes": "Back\x00shelf"}, "notes", "must not contain NUL characters"),  # PostgreSQL cannot store them
     ],
 )
 def test_bad_plans_get_400_naming_the_field(owner, small_params, body, field, message):
@@ -215,3 +216,13 @@ def test_the_token_page_shows_a_new_token_once(owner, outsider):
     assert browser.post(reverse("api_token_revoke", args=[api_token.pk])).status_code == 302
     assert ApiToken.objects.get().revoked is not None
     assert api_client(outsider).post(reverse("api_token_revoke", args=[api_token.pk])).status_code == 404
+
+
+def test_a_read_only_link_opens_nothing_in_the_api(scenario):
+    token = services.link_create(scenario=scenario, label="board")[1]
+    holder = api_client(token=token)  # a link's token is not an API token
+    for method, suffix, body, _ in ENDPOINTS:
+        response = send(holder, method, f"/api/plans/{scenario.pk}{suffix}", body(scenario) if body else None)
+        assert response.status_code == 401
+    assert send(holder, "get", "/api/plans").status_code == 401
+    assert Scenario.objects.get(pk=scenario.pk).version == 1

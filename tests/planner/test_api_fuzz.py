@@ -174,6 +174,9 @@ def test_generated_requests_never_fail_on_the_server(world, monkeypatch, django_
         max_examples=REQUESTS,
         deadline=None,
         database=None,
+        # The same 5,000 requests on every run, so CI's answer does not depend on luck; change the
+        # seed by hand (derandomize=False) to explore further.
+        derandomize=True,
         suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow, HealthCheck.data_too_large],
     )
     @given(requests)
