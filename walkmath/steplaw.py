@@ -155,7 +155,11 @@ class StepLaw:
         trials = checks.whole("trials", trials, minimum=0, maximum=10**6)
         p = checks.probability("p", p)
         counts = np.arange(trials + 1)
-        return cls._trusted(0, stats.binom.pmf(counts, trials, p), label=f"binomial(trials={trials}, p={p:g})")
+        try:
+            probs = stats.binom.pmf(counts, trials, p)
+        except OverflowError:  # Boost's pmf overflows for p near the smallest normal float (2.2e-308)
+            probs = np.exp(stats.binom.logpmf(counts, trials, p))  # logs of order 1e3: 1e-13 relative
+        return cls._trusted(0, probs, label=f"binomial(trials={trials}, p={p:g})")
 
     @classmethod
     def fixed(cls, amount: int) -> StepLaw:

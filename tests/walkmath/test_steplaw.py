@@ -2,6 +2,7 @@
 
 import math
 
+import mpmath
 import numpy as np
 import pytest
 from scipy import stats
@@ -98,3 +99,16 @@ def test_generating_function_and_tilt():
 def test_bad_input_names_the_field(build, field):
     with pytest.raises(ValueError, match=field.replace("+", r"\+")):
         build()
+
+
+@pytest.mark.parametrize("p", [2.2250738585072014e-308, 1e-300, 1e-200])
+def test_binomial_with_a_vanishing_chance_builds_its_law(p):
+    # scipy's Boost-backed binom.pmf overflows at p = 2.2e-308 (found by hypothesis); reference: the
+    # binomial pmf C(n, k) p^k (1 - p)^(n - k) in 50-digit mpmath.
+    mpmath.mp.dps = 50
+    law = wm.StepLaw.binomial(trials=4, p=p)
+    for k in range(5):
+        exact = mpmath.binomial(4, k) * mpmath.mpf(p) ** k * (1 - mpmath.mpf(p)) ** (4 - k)
+        if exact > mpmath.mpf("1e-300"):
+            assert abs(law.prob(k) - float(exact)) <= 1e-12 * float(exact)
+    assert law.prob(0) > 0 and all(law.prob(k) >= 0 for k in range(5))
