@@ -142,6 +142,13 @@ def test_buttons_follow_the_role(scenario, cast):
     assert 'id="shared-by"' not in page_of(cast["owner"], url)
 
 
+def test_the_sharing_page_has_one_links_section_and_a_plain_title(scenario, cast):
+    page = page_of(cast["owner"], reverse("scenario_sharing", args=[scenario.pk]))
+    title = page.split("<title>")[1].split("</title>")[0]
+    assert "Share Rye loaf shelf" in title and "<" not in title
+    assert page.count('id="links"') == 1 and page.count('id="link-form"') == 1
+
+
 def test_shared_with_you_on_the_home_page(scenario, cast):
     home = reverse("scenario_list")
     for who, can in [
