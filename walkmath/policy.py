@@ -211,6 +211,9 @@ class DemandTables:
         self.short = np.cumsum(self.above[::-1])[::-1]  # E[(D - n)+] = sum_{k >= n} P(D > k)
         self.served = np.concatenate([[0.0], np.cumsum(self.above)[:-1]])  # E[min(D, n)] = sum_{k < n} P(D > k)
 
+    def named(self) -> dict[str, np.ndarray]:
+        return {"above": self.above, "below": self.below, "served": self.served, "short": self.short}
+
 
 def measure_curves(
     drop: np.ndarray, end_drop: np.ndarray, tables: DemandTables, order_up_to: np.ndarray, unmet: str
@@ -219,31 +222,46 @@ def measure_curves(
 
     E[f((S - W)+)] for each table f as one direct convolution over S (sums of
     non-negative terms; W > S reads f(0)); on hand E[(S - V)+], backorders
-    E[(V - S)+] as the loss sum of V's tail. Curves over S are made monotone as
-    the quantities are (each S is summed on its own; neighbours may differ by an ulp).
+    E[(V - S)+] as the loss sum of V's tail (``finish_curves``).
     """
     top = int(order_up_to.max())
+    bodies = {name: _at_levels(drop[: top + 1], table, order_up_to) for name, table in tables.named().items()}
+    on_hand = _at_levels(end_drop[:top], np.arange(top + 1.0), order_up_to)
+    return finish_curves(bodies, on_hand, drop, end_drop, tables, order_up_to, unmet)
+
+
+def finish_curves(
+    bodies: dict[str, np.ndarray],
+    on_hand: np.ndarray,
+    drop: np.ndarray,
+    end_drop: np.ndarray,
+    tables: DemandTables,
+    order_up_to: np.ndarray,
+    unmet: str,
+) -> dict[str, np.ndarray]:
+    """The measures from ``bodies[f][i]`` = sum_{w <= S} P(W = w) f(S - w) at S = ``order_up_to[i]``.
+
+    Adds f(0) P(W > S) to each body (W > S leaves no stock), backorders E[(V - S)+]
+    as the loss sum of V's tail; curves over S are made monotone as the quantities
+    are (each S is summed on its own; neighbours may differ by an ulp).
+    """
     beyond = np.append(np.cumsum(drop[::-1])[::-1], 0.0)  # P(W >= w)
-
-    def expect(table: np.ndarray) -> np.ndarray:
-        body = _at_levels(drop[: top + 1], table, order_up_to)
-        over = beyond[np.minimum(order_up_to + 1, beyond.size - 1)]
-        return body + table[0] * over
-
+    over = beyond[np.minimum(order_up_to + 1, beyond.size - 1)]
+    named = tables.named()
+    expect = {name: bodies[name] + table[0] * over for name, table in named.items()}
     end_tail = np.append(np.cumsum(end_drop[::-1])[::-1][1:], 0.0)  # P(V > v)
     end_loss = np.append(np.cumsum(end_tail[::-1])[::-1], 0.0)  # E[(V - v)+] = sum_{k >= v} P(V > k)
-    on_hand = _at_levels(end_drop[:top], np.arange(top + 1.0), order_up_to)
     mean = tables.mean
     curves = {
-        "stockout_probability": np.minimum(expect(tables.above), 1.0),
-        "in_stock_probability": np.minimum(expect(tables.below), 1.0),
-        "fill_rate": np.minimum(expect(tables.served) / mean, 1.0),
-        "unfilled_share": np.minimum(expect(tables.short) / mean, 1.0),
+        "stockout_probability": np.minimum(expect["above"], 1.0),
+        "in_stock_probability": np.minimum(expect["below"], 1.0),
+        "fill_rate": np.minimum(expect["served"] / mean, 1.0),
+        "unfilled_share": np.minimum(expect["short"] / mean, 1.0),
         "mean_on_hand": on_hand,
         "mean_backorders": end_loss[np.minimum(order_up_to, end_loss.size - 1)]
         if unmet == "backorder"
         else 0 * on_hand,
-        "mean_short": expect(tables.short),
+        "mean_short": expect["short"],
     }
     if order_up_to.size > 1 and np.all(np.diff(order_up_to) > 0):
         for name in ("stockout_probability", "unfilled_share", "mean_backorders", "mean_short"):

@@ -37,7 +37,9 @@ from walkmath.policy import (
     PeriodicReview,
     PolicyMeasures,
     _count_law,
+    count_probs,
     end_drop_law,
+    finish_curves,
     measure_curves,
     orders_per_review,
     renewal_weights,
@@ -137,6 +139,40 @@ class _Shared:
 
     def curves(self, drop: np.ndarray, levels: np.ndarray) -> dict[str, np.ndarray]:
         return measure_curves(drop, end_drop_law(drop, self.demand), self.tables, levels, self.unmet)
+
+    def gap_curves(self, gaps):
+        """Yield (gap, measures at S = gap..top, orders per period) for increasing gaps, sharing the work.
+
+        The drop law is a mixture, W = sum_j position(j) x (lead-time demand shifted by j), so each
+        expectation sum_{w <= S} P(W = w) f(S - w) is sum_{j < gap} u(j) B_f(S - j) / U(gap) with
+        B_f = (lead-time demand) * f convolved once; each gap adds one shifted copy of B_f: O(top) per
+        gap and table instead of a convolution of length top (same non-negative terms, summed in
+        another order). Equal to ``curves`` for each gap to rounding.
+        """
+        top = self.top
+        levels = np.arange(top + 1)
+        lead = self.lead[: top + 1]
+        bases = {name: np.convolve(lead, table[: top + 1])[: top + 1] for name, table in self.tables.named().items()}
+        end_lead = np.convolve(self.lead, count_probs(self.demand))[:top]
+        bases["on_hand"] = np.convolve(end_lead, levels.astype(float))[: top + 1]
+        sums = {name: np.zeros(top + 1) for name in bases}
+        done = 0
+        for gap, drop, ordered in self.drops(gaps):
+            for j in range(done, min(gap, top + 1)):
+                for name, base in bases.items():
+                    sums[name][j:] += self.renewal[j] * base[: top + 1 - j]
+            done = gap
+            total = math.fsum(self.renewal[:gap])
+            at = levels[gap:]
+            bodies = {name: values[at] / total for name, values in sums.items()}
+            on_hand = bodies.pop("on_hand")
+            end_drop = end_drop_law(drop, self.demand)
+            curves = finish_curves(bodies, on_hand, drop, end_drop, self.tables, at, self.unmet)
+            yield gap, curves, np.full(at.size, ordered)
+
+    def chain_gap(self, gap: int, top: int):
+        """(gap, measures at S = gap..top, orders per period) by one chain solve per S."""
+        return (gap, *self.chain_curves(gap, np.arange(gap, top + 1)))
 
     def chain_curves(self, gap: int, levels: np.ndarray) -> tuple[dict[str, np.ndarray], np.ndarray]:
         """Lost sales with a lead time: one pipeline chain solve per level (no shared form)."""
@@ -332,13 +368,9 @@ def best_policy(
     good, bad = _SERVICE[measure]
     columns: dict[str, list] = {"s": [], "S": [], "cost": [], "service": [], "shortfall": []}
     gaps = range(1, largest_gap + 1)
-    pieces = shared.drops(gaps) if shared.shared else ((gap, None, None) for gap in gaps)
-    for gap, drop, ordered in pieces:
+    pieces = shared.gap_curves(gaps) if shared.shared else (shared.chain_gap(gap, top) for gap in gaps)
+    for gap, curves, orders in pieces:
         levels = np.arange(gap, top + 1)
-        if drop is None:
-            curves, orders = shared.chain_curves(gap, levels)
-        else:
-            curves, orders = shared.curves(drop, levels), np.full(levels.size, ordered)
         cost = holding * curves["mean_on_hand"] + order_cost * orders + shortage_penalty * curves["mean_short"]
         columns["s"].append(levels - gap)
         columns["S"].append(levels)

@@ -177,3 +177,26 @@ def test_search_mean_short_is_each_policy_s_own(lead_time, unmet):
     for level, short in zip(search.levels, search.mean_short, strict=True):
         alone = PeriodicReview(demand, int(level) - 2, int(level), lead_time, unmet).measures().mean_short
         assert short == pytest.approx(alone, rel=1e-12, abs=1e-300), level
+
+
+@pytest.mark.parametrize(
+    "demand, lead_time, unmet",
+    [
+        (wm.StepLaw.negative_binomial(mean=0.3, variance=1.5), 4, "backorder"),  # slow, lumpy (spare parts)
+        (wm.StepLaw.poisson(mean=6.0), 3, "backorder"),
+        (wm.StepLaw.poisson(mean=2.5), 0, "lost"),
+    ],
+)
+def test_gap_curves_equal_each_gap_on_its_own(demand, lead_time, unmet):
+    # The best-policy grid adds one shifted copy per gap (mixture linearity); each gap's curves must
+    # equal the direct convolutions of that gap's own drop law, tails included.
+    from walkmath.reviewdesign import _Shared
+
+    top, gaps = 160, range(1, 21)
+    shared = _Shared(demand, lead_time, unmet, top, max(gaps))
+    direct = {gap: shared.curves(drop, np.arange(gap, top + 1)) for gap, drop, _ in shared.drops(gaps)}
+    for gap, curves, _ in shared.gap_curves(gaps):
+        for name, values in curves.items():
+            expected = direct[gap][name]
+            assert np.all(values >= 0)
+            np.testing.assert_allclose(values, expected, rtol=1e-11, atol=0, err_msg=f"{name} at gap {gap}")
