@@ -366,22 +366,25 @@ def best_policy(
     _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top).check()
     shared = _Shared(demand, lead_time, unmet, top, largest_gap)
     good, bad = _SERVICE[measure]
-    columns: dict[str, list] = {"s": [], "S": [], "cost": [], "service": [], "shortfall": []}
+    # The grid by S (rows) and s ascending (columns: column k holds gap largest_gap - k), so that its
+    # valid cells read row by row are the candidates in (S, s) order with no sort.
+    shape = (top + 1, largest_gap)
+    grid = {name: np.zeros(shape) for name in ("cost", "service", "shortfall")}
+    valid = np.zeros(shape, dtype=bool)
     gaps = range(1, largest_gap + 1)
     pieces = shared.gap_curves(gaps) if shared.shared else (shared.chain_gap(gap, top) for gap in gaps)
     for gap, curves, orders in pieces:
-        levels = np.arange(gap, top + 1)
-        cost = holding * curves["mean_on_hand"] + order_cost * orders + shortage_penalty * curves["mean_short"]
-        columns["s"].append(levels - gap)
-        columns["S"].append(levels)
-        columns["cost"].append(cost)
-        columns["service"].append(curves[good])
-        columns["shortfall"].append(curves[bad])
-    table = {name: np.concatenate(values) for name, values in columns.items()}
-    feasible = np.ones(table["cost"].size, dtype=bool)
+        column = largest_gap - gap
+        grid["cost"][gap:, column] = (
+            holding * curves["mean_on_hand"] + order_cost * orders + shortage_penalty * curves["mean_short"]
+        )
+        grid["service"][gap:, column] = curves[good]
+        grid["shortfall"][gap:, column] = curves[bad]
+        valid[gap:, column] = True
+    feasible = valid.copy()
     if target is not None:
-        feasible = _meets(table["service"], table["shortfall"], target)
-    return _choice(demand, lead_time, unmet, table, feasible)
+        feasible &= _meets(grid["service"], grid["shortfall"], target)
+    return _choice(demand, lead_time, unmet, grid, valid, feasible)
 
 
 def _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap) -> tuple[int, int]:
@@ -411,20 +414,22 @@ def _price(name: str, value, positive: bool = False) -> float:
     return price
 
 
-def _choice(demand, lead_time, unmet, table, feasible) -> PolicyChoice:
-    order = np.lexsort((table["s"], table["S"]))
-    table = {name: values[order] for name, values in table.items()}
-    feasible = feasible[order]
-    # The cheapest feasible s for each S (ties: the smallest s): feasible rows by S, then cost, then s;
-    # the first row of each S is its best.
-    rows = np.flatnonzero(feasible)
-    by_cost = rows[np.lexsort((table["s"][rows], table["cost"][rows], table["S"][rows]))]
-    _, first = np.unique(table["S"][by_cost], return_index=True)
-    best_rows = by_cost[first]
-    if feasible.any():
-        rows = np.flatnonzero(feasible)
-        best = rows[np.argmin(table["cost"][rows])]  # ties: the smallest S, then the smallest s
-        s, big_s, cost = int(table["s"][best]), int(table["S"][best]), float(table["cost"][best])
+def _choice(demand, lead_time, unmet, grid, valid, feasible) -> PolicyChoice:
+    """The cheapest feasible cell of the (S, s) grid, and the cheapest feasible s for each S.
+
+    Ties go to the smallest S, then the smallest s (the first cell in row order, columns by s).
+    """
+    top, largest_gap = valid.shape[0] - 1, valid.shape[1]
+    order_up_to = np.broadcast_to(np.arange(top + 1)[:, None], valid.shape)
+    reorder_level = order_up_to - (largest_gap - np.arange(largest_gap))[None, :]
+    costs = np.where(feasible, grid["cost"], np.inf)
+    column = np.argmin(costs, axis=1)  # the first (smallest s) of the cheapest in each row
+    rows = np.flatnonzero(feasible.any(axis=1))
+    best_costs = costs[rows, column[rows]]
+    if rows.size:
+        pick = int(np.argmin(best_costs))  # the first: the smallest S
+        row = rows[pick]
+        s, big_s, cost = int(reorder_level[row, column[row]]), int(row), float(best_costs[pick])
         measures = PeriodicReview(demand, s, big_s, lead_time, unmet).measures()
     else:
         s = big_s = cost = measures = None
@@ -433,13 +438,13 @@ def _choice(demand, lead_time, unmet, table, feasible) -> PolicyChoice:
         order_up_to=big_s,
         cost=cost,
         measures=measures,
-        reorder_levels=table["s"],
-        order_up_to_levels=table["S"],
-        costs=table["cost"],
-        service=table["service"],
-        shortfall=table["shortfall"],
-        feasible=feasible,
-        curve_order_up_to=table["S"][best_rows].astype(int),
-        curve_reorder_level=table["s"][best_rows].astype(int),
-        curve_cost=table["cost"][best_rows].astype(float),
+        reorder_levels=reorder_level[valid],
+        order_up_to_levels=order_up_to[valid],
+        costs=grid["cost"][valid],
+        service=grid["service"][valid],
+        shortfall=grid["shortfall"][valid],
+        feasible=feasible[valid],
+        curve_order_up_to=rows.astype(int),
+        curve_reorder_level=reorder_level[rows, column[rows]].astype(int),
+        curve_cost=best_costs.astype(float),
     )
