@@ -10,6 +10,10 @@ candidates. Each candidate is computed on its own (``SparesPool``); a running ma
 removes rounding ripples of a few ulps, so the curves are monotone by construction and the first
 candidate on them meeting the target is the smallest.
 
+A candidate's price and figures are kept (the last ``CANDIDATES_KEPT``, a few floats each): a
+what-if that moves the pool's own spares or crews asks again for the same candidates. The price is
+charged every time, kept or not, so how far a search reaches never depends on what was kept.
+
 Every probe is priced with the engine's cost model before it runs; the search stops at its budget
 (``cap``) and says so (``budget_reached``).
 """
@@ -17,6 +21,7 @@ Every probe is priced with the engine's cost model before it runs; the search st
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -28,6 +33,8 @@ from walkmath.spares import POOL_CAP, SparesPool
 MOST_SPARES = 1_000
 # Most candidates the curve is carried on past ``shown`` to reach the smallest meeting the targets.
 MOST_EXTRA = 100
+# Candidates whose price and figures are kept between searches (a few floats each).
+CANDIDATES_KEPT = 4096
 
 
 @dataclass(frozen=True, eq=False)
@@ -86,8 +93,8 @@ def spares_curve(
     most = checks.whole("most", most, minimum=0, maximum=POOL_CAP)
     shown = checks.whole("shown", shown, minimum=0, maximum=most)
 
-    def pool(count: int) -> SparesPool:
-        return SparesPool(units, count, failure_rate, repair_rate, crews, warm_failure_rate)
+    def pool(count: int) -> tuple:
+        return (units, count, failure_rate, repair_rate, crews, warm_failure_rate)
 
     return _search("spares", pool, range(0, most + 1), shown, availability_target, risk_target, mission_time, cap)
 
@@ -113,8 +120,8 @@ def crews_curve(
     most = units + spares if most is None else checks.whole("most", most, minimum=1, maximum=units + spares)
     shown = checks.whole("shown", shown, minimum=1, maximum=most)
 
-    def pool(count: int) -> SparesPool:
-        return SparesPool(units, spares, failure_rate, repair_rate, count, warm_failure_rate)
+    def pool(count: int) -> tuple:
+        return (units, spares, failure_rate, repair_rate, count, warm_failure_rate)
 
     return _search("crews", pool, range(1, most + 1), shown, availability_target, risk_target, mission_time, cap)
 
@@ -197,7 +204,8 @@ def _need_target(knob: str, availability_target, risk_target) -> None:
 
 
 class _Prober:
-    """Figures of one candidate at a time, each priced before it runs and kept for reuse."""
+    """Figures of one candidate at a time, each priced before it runs (``pool(count)`` gives the
+    candidate's ``SparesPool`` arguments)."""
 
     def __init__(self, knob, pool, mission_time, cap):
         self.knob, self.pool, self.mission_time, self.cap = knob, pool, mission_time, cap
@@ -210,10 +218,8 @@ class _Prober:
             return self.rows[count]
         if self.budget_reached:
             return None
-        candidate = self.pool(count)
-        price = candidate.cost("long_run").units
-        if self.mission_time is not None:
-            price += candidate.cost("shortage_curve", times=self.mission_time).units
+        arguments = self.pool(count)
+        price = _candidate_price(arguments, self.mission_time)
         if self.spent + price > self.cap:
             if not self.rows:
                 raise ComputeTooLarge(
@@ -223,11 +229,37 @@ class _Prober:
             self.budget_reached = True
             return None
         self.spent += price
-        row = candidate.availability_split()
-        if self.mission_time is not None:
-            row += candidate.shortage_split(self.mission_time)
-        self.rows[count] = row
+        self.rows[count] = row = _candidate_row(arguments, self.mission_time)
         return row
+
+
+@lru_cache(maxsize=CANDIDATES_KEPT)
+def _candidate_price(arguments: tuple, mission_time: float | None) -> int:
+    candidate = _candidate(arguments)
+    price = candidate.cost("long_run").units
+    if mission_time is not None:
+        price += candidate.cost("shortage_curve", times=mission_time).units
+    return price
+
+
+@lru_cache(maxsize=CANDIDATES_KEPT)
+def _candidate_row(arguments: tuple, mission_time: float | None) -> tuple[float, ...]:
+    candidate = _candidate(arguments)
+    row = candidate.availability_split()
+    if mission_time is not None:
+        row += candidate.shortage_split(mission_time)
+    return row
+
+
+@lru_cache(maxsize=2)  # the pool just priced, for its figures (pools can be large: keep few)
+def _candidate(arguments: tuple) -> SparesPool:
+    return SparesPool(*arguments)
+
+
+def forget_candidates() -> None:
+    """Drop every kept candidate (tests start from none)."""
+    for kept in (_candidate_price, _candidate_row, _candidate):
+        kept.cache_clear()
 
 
 def _search(knob, pool, candidates, shown, availability_target, risk_target, mission_time, cap) -> PoolSizing:

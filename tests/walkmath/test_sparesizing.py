@@ -180,3 +180,27 @@ def test_curves_move_one_way_and_agree_with_each_pool(
 def test_bad_search_inputs_name_the_input(call, words):
     with pytest.raises(ValueError, match=words):
         call()
+
+
+def test_kept_candidates_change_neither_figures_nor_reach():
+    # A search that finds every candidate kept from an earlier one must give the same figures and
+    # stop at the same place under the same budget (the price is charged kept or not).
+    from walkmath import sparesizing
+
+    arguments = dict(units=12, failure_rate=0.02, repair_rate=0.25, crews=2, warm_failure_rate=0.004)
+    mission = dict(risk_target=1e-6, mission_time=400.0, shown=6, most=60)
+    whole = spares_curve(**arguments, **mission)
+    budget = whole.work // 3
+    sparesizing.forget_candidates()
+    cold = spares_curve(**arguments, **mission, cap=budget)
+    warm_up = spares_curve(**arguments, **mission)  # every candidate kept
+    warm = spares_curve(**arguments, **mission, cap=budget)
+    assert warm_up.searched_to >= cold.searched_to
+    assert cold.budget_reached and warm.budget_reached
+    for field in ("counts", "availability", "unavailability", "shortage_risk", "no_shortage_risk"):
+        np.testing.assert_array_equal(getattr(warm, field), getattr(cold, field))
+    assert (warm.smallest, warm.work, warm.searched_to) == (cold.smallest, cold.work, cold.searched_to)
+    # and each kept figure is the pool's own, worked out afresh (SparesPool directly)
+    for count, risk in zip(warm.counts, warm.shortage_risk, strict=True):
+        pool = SparesPool(spares=int(count), **arguments)
+        assert risk == pytest.approx(pool.shortage_split(400.0)[0], rel=1e-12)
