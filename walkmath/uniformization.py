@@ -39,6 +39,10 @@ LADDER_LEVELS = 64
 STEP_UNITS = 10
 FLOP_UNITS = 5
 CALL_UNITS = 10_000
+# Poisson windows kept for reuse: the last WINDOWS_KEPT with a mean up to KEPT_MEAN (each at most
+# about 8,000 floats, so at most about 8 MB in all); longer ones are worked out each time.
+WINDOWS_KEPT = 128
+KEPT_MEAN = 1e4
 
 
 @dataclass(frozen=True, eq=False)
@@ -64,10 +68,20 @@ class _PoissonWindow:
 
 
 def _poisson_window(mean: float) -> _PoissonWindow:
+    return _kept_window(mean) if mean <= KEPT_MEAN else _window(mean)
+
+
+@functools.lru_cache(maxsize=WINDOWS_KEPT)
+def _kept_window(mean: float) -> _PoissonWindow:
+    return _window(mean)
+
+
+def _window(mean: float) -> _PoissonWindow:
     """Poisson(mean) weights from the mode outwards until they fall below ``WEIGHT_FLOOR`` of the mode's.
 
     Ratios w_{k+1}/w_k = mean/(k+1) and w_{k-1}/w_k = k/mean keep shrinking beyond either cut, so
     each dropped tail is at most a geometric series on its first term (Fox and Glynn 1988).
+    Read-only, as windows are kept for reuse (a page asks for the same times on several curves).
     """
     if mean == 0:
         return _PoissonWindow(0, np.ones(1), 0.0)
@@ -99,7 +113,9 @@ def _poisson_window(mean: float) -> _PoissonWindow:
     # numpy's pairwise sum of these positive weights: relative error below 1e-15 for any window (an
     # exact sum cost milliseconds a window on long missions), the same factor for every weight
     total = float(weights.sum())
-    return _PoissonWindow(mode - lower.size, weights / total, (lower_tail + upper_tail) / total)
+    weights /= total
+    weights.setflags(write=False)
+    return _PoissonWindow(mode - lower.size, weights, (lower_tail + upper_tail) / total)
 
 
 def _uniformized(
