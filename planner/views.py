@@ -43,6 +43,7 @@ from planner.forms import (
     scenario_initial,
     scenario_values,
 )
+from planner.json_text import json_response
 from planner.kinds import all_kinds, get_kind
 from planner.models import ApiToken, Scenario, ScenarioLink, ScenarioShare
 from planner.permissions import EDIT, OWN, get_scenario_by_link, get_scenario_for
@@ -207,7 +208,7 @@ def scenario_outlook_json(request, pk: int):
         "params": result_reading.params.to_json(),
         "changes": list(result_reading.changes),
     }
-    response = JsonResponse(data)
+    response = json_response(data)
     response["Server-Timing"] = f"compute;dur={1000 * (time.perf_counter() - began):.1f}"
     return response
 
@@ -250,7 +251,7 @@ def scenario_cross_check_json(request, pk: int):
         "table_html": render_to_string(found.kind.check_template, context, request),
         "changes": list(found.changes),
     }
-    response = JsonResponse(data)
+    response = json_response(data)
     response["Server-Timing"] = f"compute;dur={1000 * (time.perf_counter() - began):.1f}"
     return response
 
