@@ -133,6 +133,9 @@ class Kind:
         count laws as JSON-shaped dicts or the observed change table, a weekday pattern); ``start``,
         ``high`` (None: no capacity) and ``horizon`` are what the analyst gave on the fit page.
         ValueError naming what does not fit; the fit page then shows it beside the button.
+        A repair log's fit is a ``planner.repairlog.fit.FittedRates`` (``record == "repair_log"``: units,
+        spares, failure and repair rates per time unit); ``horizon`` is then the mission. A kind returns
+        None for a record it is not made from.
         """
         return None
 
