@@ -27,7 +27,7 @@ FRAME = ("time_unit", "units", "spares", "record_start", "record_end")
 @login_required
 @require_http_methods(["GET", "POST"])
 def repairlog_new(request):
-    refusal = upload.too_large(request) if request.method == "POST" else None
+    refusal = upload.too_large(request, "a repair log") if request.method == "POST" else None
     if refusal:
         return render(request, NEW, {"form": LogUploadForm(), "refusal": refusal, "max_bytes": MAX_BYTES}, status=413)
     return _repairlog_upload(request)

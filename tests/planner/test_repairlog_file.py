@@ -17,7 +17,10 @@ from planner.repairlog_file import (
     read_repair_log,
 )
 
-GOOD = b"unit,failed,returned\r\nigniter-03,2025-01-14,2025-01-17\r\nigniter-07,2025-02-02,\r\nigniter-03,2025-01-20,2025-01-21\r\n"
+GOOD = (
+    b"unit,failed,returned\r\nigniter-03,2025-01-14,2025-01-17\r\nigniter-07,2025-02-02,\r\n"
+    b"igniter-03,2025-01-20,2025-01-21\r\n"
+)
 FRAME = {"time_unit": "day", "record_start": "2025-01-01", "record_end": "2025-03-02", "units": 6, "spares": 2}
 
 
