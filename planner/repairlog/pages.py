@@ -107,8 +107,8 @@ def log_context(saved, log: RepairLog, fit, form, *, cap: int) -> dict:
         "rates": rate_rows(fit, unit),
         "confidence": CONFIDENCE,
         "credible": CREDIBLE,
-        "exposure": duration(fit.failure.exposure, unit),
-        "time_short": duration(fit.time_short, unit),
+        "exposure": f"{number(fit.failure.exposure, 6)} unit-{unit}s",  # summed over the units in service
+        "time_short": f"{number(fit.time_short, 6)} unit-{unit}s",
         "shop_time": duration(fit.repair.exposure, unit),
         "result": result,
         "min_draws": MIN_DRAWS,
