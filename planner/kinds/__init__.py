@@ -178,6 +178,21 @@ def all_kinds() -> list[Kind]:
     return list(_KINDS.values())
 
 
+def plan_options(fitted, *, start: int, high: int | None, horizon: int) -> list[dict]:
+    """Every kind made from ``fitted`` (a history's or a repair log's fit), each with the reason it cannot take
+    this one ("" when it can): ``{"kind", "refusal"}``. Builds parameters only (no law, no computation)."""
+    options = []
+    for kind in all_kinds():
+        try:
+            params = kind.params_from_fit(fitted, start=start, high=high, horizon=horizon)
+        except ValueError as refusal:
+            options.append({"kind": kind, "refusal": str(refusal)})
+            continue
+        if params is not None:
+            options.append({"kind": kind, "refusal": ""})
+    return options
+
+
 def discover() -> None:
     """Import every kind package under planner/kinds (each registers itself once)."""
     for module in pkgutil.iter_modules(__path__):

@@ -10,7 +10,7 @@ import math
 from dataclasses import dataclass
 
 from planner.formatting import number
-from planner.kinds import all_kinds
+from planner.kinds import plan_options
 from planner.pool_words import duration, share
 from planner.repairlog.fit import CONFIDENCE, CREDIBLE, MAX_DRAWS, MIN_DRAWS, AvailabilityJob, fitted_rates
 from planner.repairlog_file import RepairLog
@@ -79,20 +79,6 @@ def rate_rows(fit, unit: str) -> list[RateRow]:
     return rows
 
 
-def plan_options(rates, mission: int) -> list[dict]:
-    """Every kind made from a repair log, each with the reason it cannot take this one ("" when it can)."""
-    options = []
-    for kind in all_kinds():
-        try:
-            params = kind.params_from_fit(rates, start=0, high=None, horizon=mission)
-        except ValueError as refusal:
-            options.append({"kind": kind, "refusal": str(refusal)})
-            continue
-        if params is not None:
-            options.append({"kind": kind, "refusal": ""})
-    return options
-
-
 def log_context(saved, log: RepairLog, fit, form, *, cap: int) -> dict:
     """Everything the log's page shows; runs the priced availability job."""
     unit = log.time_unit
@@ -122,5 +108,6 @@ def log_context(saved, log: RepairLog, fit, form, *, cap: int) -> dict:
             "availability_high": share(band.high),
         }
     rates = fitted_rates(fit, log, source=saved.title)
-    context["plan_options"] = plan_options(rates, form.cleaned_data["mission"]) if form.is_valid() else []
+    mission = form.cleaned_data["mission"] if form.is_valid() else None
+    context["plan_options"] = [] if mission is None else plan_options(rates, start=0, high=None, horizon=mission)
     return context
