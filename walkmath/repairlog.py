@@ -165,12 +165,14 @@ def fit_repair_log(
     completed = failures - int(open_.sum())
     if exposure <= 0:
         raise ValueError("the record has no time with units in service")
-    if completed and shop_time <= 0:
-        raise ValueError("every completed repair took no time at the record's resolution: use a finer time unit")
+    if shop_time <= 0:
+        raise ValueError(
+            "the record holds no time in the shop (every repair took no time at the record's resolution, or the "
+            "failures are at its very end): use a finer time unit or a longer record"
+        )
     args = {"confidence": confidence, "prior_shape": prior_shape, "prior_rate": prior_rate}
     failure = poisson_rate(failures, exposure, **args)
-    # with no time in the shop at all there is nothing to fit; the exposure of one time unit keeps it defined
-    repair = poisson_rate(completed, shop_time if shop_time > 0 else 1.0, **args)
+    repair = poisson_rate(completed, shop_time, **args)
     return RepairLogFit(units, spares, end - start, failure, repair, int(open_.sum()), in_shop, short)
 
 

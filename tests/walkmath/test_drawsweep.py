@@ -10,8 +10,12 @@ The reference is the engine's own single-law sweep, itself tested against exact 
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import walkmath as wm
 from walkmath import drawsweep
@@ -122,3 +126,31 @@ def test_the_batched_sweep_is_priced_before_it_runs(narrow, monkeypatch):
     monkeypatch.setattr("walkmath.uncertainty.sweep_curves", no_sweep)
     with pytest.raises(wm.ComputeTooLarge, match=r"risk_band \(80 draws\) needs"):
         wm.risk_band(**kwargs, cap=work.units - 1)
+
+
+@st.composite
+def laws_and_band(draw):
+    """A few laws on one or two supports, a band and its rules (hypothesis)."""
+    lowest = draw(st.integers(-4, 1))
+    width = draw(st.integers(1, 9))
+    count = draw(st.integers(1, 5))
+    laws = []
+    for _ in range(count):
+        weights = draw(st.lists(st.floats(0.01, 1.0), min_size=width, max_size=width))
+        probs = np.array(weights) / math.fsum(weights)
+        laws.append(wm.StepLaw.from_pmf({lowest + i: float(p) for i, p in enumerate(probs)}))
+    if draw(st.booleans()):
+        laws.append(wm.StepLaw.nearest(up=0.3, down=0.4))
+    low = draw(st.integers(0, 3))
+    high = draw(st.one_of(st.none(), st.integers(low, low + 25)))
+    start = draw(st.integers(low, low + 25 if high is None else high))
+    below = draw(st.sampled_from(["backorder", "lost", "stop"]))
+    above = draw(st.sampled_from(["spill", "stop"]))
+    return laws, {"start": start, "low": low, "high": high, "below": below, "above": above}
+
+
+@settings(max_examples=60, deadline=None)
+@given(laws_and_band(), st.integers(1, 40))
+def test_batched_equals_law_by_law_for_any_laws_and_band(case, horizon):
+    laws, walk_args = case
+    assert_same_curves(laws, walk_args, horizon)

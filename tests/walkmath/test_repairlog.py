@@ -157,6 +157,10 @@ def test_a_malformed_log_is_refused_naming_the_problem():
         wm.fit_repair_log([3.0], [2.0], start=0.0, end=5.0, units=1, spares=0)
     with pytest.raises(ValueError, match=r"in the shop at once \(3\)"):
         wm.fit_repair_log([1.0, 1.5, 2.0], [4.0, 4.0, 4.0], start=0.0, end=5.0, units=1, spares=1)
+    with pytest.raises(ValueError, match="no time in the shop"):
+        wm.fit_repair_log([1.0, 3.0], [1.0, 3.0], start=0.0, end=5.0, units=1, spares=1)
+    with pytest.raises(ValueError, match="no time in the shop"):
+        wm.fit_repair_log([5.0], [np.nan], start=0.0, end=5.0, units=1, spares=1)
     with pytest.raises(ValueError, match="units must be a whole number"):
         wm.fit_repair_log([1.0], [2.0], start=0.0, end=5.0, units=0, spares=0)
 
