@@ -5,15 +5,17 @@ from __future__ import annotations
 from django.conf import settings
 from django.contrib import messages
 from django.contrib.auth.decorators import login_required
+from django.http import Http404, HttpResponse
 from django.shortcuts import redirect, render
 from django.urls import reverse
 from django.views.decorators.csrf import csrf_exempt, csrf_protect
 from django.views.decorators.http import require_GET, require_http_methods, require_POST
 
+from planner.csv_writer import file_name, rows_csv
 from planner.history import upload
 from planner.history_file import MAX_BYTES
-from planner.repairlog import services
-from planner.repairlog.fit import MISSION, fit_log
+from planner.repairlog import services, tables
+from planner.repairlog.fit import MISSION, AvailabilityJob, fit_log
 from planner.repairlog.forms import LogUploadForm, MissionForm
 from planner.repairlog.pages import log_context, log_rows
 from planner.repairlog.permissions import get_repairlog_for
@@ -98,3 +100,28 @@ def repairlog_delete(request, pk: int):
         messages.success(request, f"Deleted the repair log “{saved.title}”.")
         return redirect("history_list")
     return render(request, "planner/repairlog/confirm_delete.html", {"saved": saved})
+
+
+@login_required
+@require_GET
+def repairlog_csv(request, pk: int, table: str):
+    """One of ``tables.TABLES`` as CSV; 400 with the reason when the log cannot be fitted."""
+    saved = get_repairlog_for(request.user, pk)
+    if table not in tables.TABLES:
+        raise Http404("No such table")
+    log = saved.parsed()
+    if table == "rows":
+        rows = tables.log_rows(saved.title, log)
+    else:
+        try:
+            fit = fit_log(log)
+        except ValueError as refusal:
+            return HttpResponse(f"This record cannot be fitted: {refusal}.", status=400, content_type="text/plain")
+        if table == "rates":
+            rows = tables.rate_rows(saved.title, fit, log.time_unit)
+        else:
+            result = AvailabilityJob(fit).run(settings.PLANNER_COMPUTE_CAP)
+            rows = tables.availability_rows(saved.title, result, log.time_unit)
+    response = HttpResponse(rows_csv(rows), content_type="text/csv; charset=utf-8")
+    response["Content-Disposition"] = f'attachment; filename="{file_name(saved.title, table)}"'
+    return response

@@ -7,6 +7,9 @@ refuse with 403; the plan made from a log is an ordinary plan, its sharing teste
 Outside references named beside each check: scipy.stats (chi-square quantiles for the exact interval).
 """
 
+import csv
+import io
+
 import pytest
 from django.conf import settings
 from django.test import Client
@@ -29,7 +32,7 @@ LOG_VIEWS = [
     ("repairlog_plan_create", {"kind": "spares_pool"}, "post", {"mission": "90"}),
     ("repairlog_delete", {}, "get", {}),
     ("repairlog_delete", {}, "post", {}),
-]
+] + [("repairlog_csv", {"table": table}, "get", {}) for table in ("rows", "rates", "availability")]
 
 
 def url_for(name, saved, extra):
@@ -215,3 +218,28 @@ def test_the_list_shows_own_logs_and_deleting_one(client, repair_log, outsider):
     assert "Van tyres, 2025" in client.get(reverse("history_list")).content.decode()
     client.post(reverse("repairlog_delete", args=[repair_log.pk]))
     assert not SavedRepairLog.objects.exists()
+
+
+def read_csv(response) -> list[list[str]]:
+    """The download as the csv module (RFC 4180) reads it."""
+    assert response["Content-Type"] == "text/csv; charset=utf-8"
+    return list(csv.reader(io.StringIO(response.content.decode())))
+
+
+def test_the_tables_hold_the_engines_numbers(client, repair_log):
+    client.force_login(repair_log.owner)
+    log = repair_log.parsed()
+    from walkmath import fit_repair_log
+
+    fit = fit_repair_log(log.failed, log.returned, start=0, end=log.span, units=8, spares=3)
+    rows = read_csv(client.get(reverse("repairlog_csv", args=[repair_log.pk, "rows"])))
+    assert rows[0][:3] == ["repair log", "row", "unit"] and len(rows) == 1 + 30
+    assert sum(float(row[5]) for row in rows[1:]) == pytest.approx(fit.repair.exposure, rel=1e-12)
+    rates = read_csv(client.get(reverse("repairlog_csv", args=[repair_log.pk, "rates"])))
+    failure = dict(zip(rates[0], rates[1], strict=True))
+    assert int(failure["events"]) == 30 and float(failure["estimate (per day)"]) == fit.failure.value
+    assert float(failure["interval low"]) == fit.failure.low  # repr precision: the engine's float exactly
+    draws = read_csv(client.get(reverse("repairlog_csv", args=[repair_log.pk, "availability"])))
+    assert draws[1][1:4] == ["0", "fitted", "fitted"] and len(draws) == 2 + 400
+    assert all(0 <= float(row[4]) <= 1 and row[5] == "1" for row in draws[1:])
+    assert client.get(reverse("repairlog_csv", args=[repair_log.pk, "nothing"])).status_code == 404
