@@ -27,6 +27,15 @@ from walkmath.policy import PeriodicReview, PolicyMeasures, StockoutRisk
 from walkmath.pools import FailedLaw, RatePool, TimeSplit
 from walkmath.posterior import ChangePosterior, RatePosterior, SpreadPosterior, law_posterior
 from walkmath.profile import WeekdayProfile, weekday_profile
+from walkmath.repairlog import (
+    AvailabilityBand,
+    RateEstimate,
+    RepairLogFit,
+    availability_band,
+    availability_band_work,
+    fit_repair_log,
+    poisson_rate,
+)
 from walkmath.reviewcost import best_policy_work, order_up_to_work
 from walkmath.reviewdesign import LevelSearch, PolicyChoice, best_policy, smallest_order_up_to, smallest_reorder_level
 from walkmath.ruin import expected_duration, ruin_probability
@@ -48,6 +57,13 @@ from walkmath.steplaw import StepLaw
 from walkmath.uncertainty import RiskBand, risk_band, risk_band_work
 
 __all__ = [
+    "AvailabilityBand",
+    "RateEstimate",
+    "RepairLogFit",
+    "availability_band",
+    "availability_band_work",
+    "fit_repair_log",
+    "poisson_rate",
     "BandedWalk",
     "BirthDeath",
     "COMPUTE_CAP",

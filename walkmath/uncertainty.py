@@ -5,14 +5,16 @@ computes each draw's stock-out and overflow curves exactly with
 ``BandedWalk.outlook`` (the band's rules coded once, in ``walkmath.operator``),
 and returns, period by period, an equal-tailed credible band (order statistics
 of the draws' curves) and the posterior mean. The draws and the laws are made
-with vectorised numpy calls; the sweeps run one draw after another, since a
-sweep carries one law. All the work is priced with ``walkmath.cost`` before any
-sweep starts.
+with vectorised numpy calls; the sweeps run batched, every draw sharing a
+support in one array (``walkmath.drawsweep``: each law's own kernel, applied
+to all of them in one pass per jump), or one draw after another with
+``batch=False`` (the same curves to rounding). All the work is priced with
+``walkmath.cost`` before any sweep starts.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -20,6 +22,7 @@ from walkmath import checks
 from walkmath.banded import BandedWalk
 from walkmath.checks import DEFAULT_ABOVE, DEFAULT_BELOW
 from walkmath.cost import LEVELS_CAP, WORK_CAP, ComputeTooLarge, Work
+from walkmath.drawsweep import sweep_curves, sweep_work
 from walkmath.posterior import DRAWS_CAP
 from walkmath.steplaw import StepLaw
 
@@ -81,6 +84,7 @@ def risk_band(
     seed: int = 0,
     credible: float = 0.9,
     cap: int = WORK_CAP,
+    batch: bool = True,
 ) -> RiskBand:
     """Stock-out and overflow risk over ``draws`` posterior draws of the law, exact per draw.
 
@@ -91,17 +95,21 @@ def risk_band(
     the same band every time. Priced before any sweep (``risk_band_work``);
     ComputeTooLarge over ``cap``. Each draw's curve has the engine's accuracy
     (sums of non-negative terms); the band's own error is that of ``draws``
-    Monte Carlo draws of the law.
+    Monte Carlo draws of the law. ``batch`` (default) sweeps the draws that share a support together
+    (``walkmath.drawsweep``); ``batch=False`` sweeps them one by one (the reference it is tested against).
     """
     laws, walk_args, horizon, draws, seed, credible, combining = _prepare(
         start, horizon, change, arrivals, demand, low, high, below, above, draws, seed, credible, cap
     )
-    work = _price(laws, walk_args, horizon, combining).check(cap)
-    stockout = np.empty((draws, horizon + 1))
-    overflow = np.empty((draws, horizon + 1))
-    for index, law in enumerate(laws):
-        outlook = BandedWalk(law, **walk_args).outlook(horizon)
-        stockout[index], overflow[index] = outlook.stockout, outlook.overflow
+    work = _price(laws, walk_args, horizon, combining, batch).check(cap)
+    if batch:
+        stockout, overflow = sweep_curves(laws, walk_args, horizon)
+    else:
+        stockout = np.empty((draws, horizon + 1))
+        overflow = np.empty((draws, horizon + 1))
+        for index, law in enumerate(laws):
+            outlook = BandedWalk(law, **walk_args).outlook(horizon)
+            stockout[index], overflow[index] = outlook.stockout, outlook.overflow
     tails = ((1.0 - credible) / 2.0, 0.5, (1.0 + credible) / 2.0)
     stockout_edges = np.quantile(stockout, tails, axis=0, method="inverted_cdf")
     overflow_edges = np.quantile(overflow, tails, axis=0, method="inverted_cdf")
@@ -126,6 +134,7 @@ def risk_band_work(
     draws: int = DEFAULT_DRAWS,
     seed: int = 0,
     credible: float = 0.9,
+    batch: bool = True,
 ) -> Work:
     """Priced work of ``risk_band`` with the same arguments, without any sweep.
 
@@ -135,7 +144,7 @@ def risk_band_work(
     laws, walk_args, horizon, *_, combining = _prepare(
         start, horizon, change, arrivals, demand, low, high, below, above, draws, seed, credible, WORK_CAP
     )
-    return _price(laws, walk_args, horizon, combining)
+    return _price(laws, walk_args, horizon, combining, batch)
 
 
 def _prepare(start, horizon, change, arrivals, demand, low, high, below, above, draws, seed, credible, cap):
@@ -175,8 +184,12 @@ def _laws(name: str, source, draws: int, rng: np.random.Generator) -> list[StepL
     return source.draw_laws(draws, rng)
 
 
-def _price(laws: list[StepLaw], walk_args: dict, horizon: int, combining: int) -> Work:
-    """Sum of each draw's outlook price and the combining work, as one ``Work`` (its units in ``dense``)."""
+def _price(laws: list[StepLaw], walk_args: dict, horizon: int, combining: int, batch: bool) -> Work:
+    """The sweeps' price (batched: ``drawsweep.sweep_work``; else the sum of each draw's outlook price) and
+    the combining work, as one ``Work`` (its units in ``dense``)."""
+    if batch:
+        swept = sweep_work(laws, walk_args, horizon)
+        return replace(swept, method=f"risk_band ({len(laws)} draws)", dense=swept.dense + combining, knob=KNOB)
     works = [BandedWalk(law, **walk_args).cost(horizon, "outlook") for law in laws]
     return Work(
         f"risk_band ({len(laws)} draws)",

@@ -33,7 +33,7 @@ FIT_REFUSED = "These records cannot be fitted:"
 CREDIBLE = 0.9
 # Draws of the fitted laws for the credible range: as many as the page's budget affords, within these.
 MIN_DRAWS, MAX_DRAWS = 20, 400
-# Draws priced first to learn the cost of one (risk_band_work), and the margin kept over their average.
+# Draws priced first (and twice as many) to learn the cost of one (risk_band_work), and the margin kept over it.
 PILOT_DRAWS, PILOT_MARGIN = 10, 1.25
 LOW = 0
 
@@ -327,6 +327,18 @@ class RangeJob:
             }
         )
 
+    def _draw_price(self) -> tuple[int, int]:
+        """(fixed, per draw) work units of the credible range, from two pilot prices (``PILOT_DRAWS`` and
+        twice as many draws): the engine sweeps draws in batches, so part of the price does not grow with
+        the draws. The per-draw part is kept with ``PILOT_MARGIN`` to spare."""
+        try:
+            one = wm.risk_band_work(**self._band_args(PILOT_DRAWS)).units
+            two = wm.risk_band_work(**self._band_args(2 * PILOT_DRAWS)).units
+        except wm.ComputeTooLarge:  # even the pilot's laws are past the engine's own limits
+            return 0, wm.WORK_CAP
+        per_draw = max(1, two - one, one // (4 * PILOT_DRAWS)) / PILOT_DRAWS
+        return max(0, one - math.ceil(per_draw * PILOT_DRAWS)), max(1, math.ceil(per_draw * PILOT_MARGIN))
+
     def run(self, cap: int) -> RangeResult:
         walk = self.walk()
         headline = walk.cost(self.inputs.horizon, "outlook").units
@@ -337,12 +349,8 @@ class RangeJob:
             )
         outlook = walk.outlook(self.inputs.horizon)
         budget = cap - headline
-        try:
-            pilot = wm.risk_band_work(**self._band_args(PILOT_DRAWS)).units
-        except wm.ComputeTooLarge:  # even the pilot's laws are past the engine's own limits
-            pilot = wm.WORK_CAP * PILOT_DRAWS
-        unit_cost = max(1, math.ceil(pilot / PILOT_DRAWS * PILOT_MARGIN))
-        affordable = budget // unit_cost
+        fixed, unit_cost = self._draw_price()
+        affordable = max(budget - fixed, 0) // unit_cost
         draws = min(affordable, MAX_DRAWS)
         band, refusal = None, ""
         for _attempt in range(2):

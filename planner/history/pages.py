@@ -12,6 +12,7 @@ from dataclasses import dataclass
 from urllib.parse import urlencode
 
 import walkmath as wm
+from planner import kinds
 from planner.formatting import number, period_name
 from planner.history import charts, tables
 from planner.history.fit import (
@@ -29,7 +30,6 @@ from planner.history.fit import (
 )
 from planner.history.forms import RangeForm
 from planner.history_file import History
-from planner.kinds import all_kinds
 
 # Rows shown at each end of a preview (the CSV download has them all).
 PREVIEW_HEAD, PREVIEW_TAIL = 10, 5
@@ -161,17 +161,8 @@ def plan_options(history, fit: HistoryFit, inputs: RangeInputs | None) -> list[d
     before the inputs are valid. Builds parameters only (no law, no computation)."""
     if inputs is None:
         return []
-    options = []
     laws = fitted_laws(fit, source=history.title)
-    for kind in all_kinds():
-        try:
-            params = kind.params_from_fit(laws, start=inputs.start, high=inputs.high, horizon=inputs.horizon)
-        except ValueError as refusal:
-            options.append({"kind": kind, "refusal": str(refusal)})
-            continue
-        if params is not None:
-            options.append({"kind": kind, "refusal": ""})
-    return options
+    return kinds.plan_options(laws, start=inputs.start, high=inputs.high, horizon=inputs.horizon)
 
 
 def fit_context(history, fit: HistoryFit, form, *, cap: int) -> dict:

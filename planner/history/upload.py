@@ -35,14 +35,19 @@ def declared_size(request) -> int:
         return 0
 
 
-def too_large(request) -> str | None:
+def too_large(request, what: str = "a history file") -> str | None:
     """The refusal for a request larger than ``MAX_REQUEST``, or None; reads nothing of the body."""
     size = declared_size(request)
     if size <= MAX_REQUEST:
         return None
     return (
-        f"The upload is {_megabytes(size)}; a history file may be at most {_megabytes(MAX_BYTES)}. "
-        "Nothing was read or saved. Send a shorter stretch of the history, or weekly rows."
+        f"The upload is {_megabytes(size)}; {what} may be at most {_megabytes(MAX_BYTES)}. "
+        "Nothing was read or saved. "
+        + (
+            "Send a shorter stretch of the history, or weekly rows."
+            if what == "a history file"
+            else "Send a shorter stretch of the log."
+        )
     )
 
 

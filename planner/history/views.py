@@ -31,7 +31,8 @@ PREVIEW = "planner/history/preview.html"
 @require_GET
 def history_list(request):
     histories = SavedHistory.objects.filter(owner=request.user).defer("series")
-    return render(request, "planner/history/list.html", {"histories": histories})
+    repair_logs = request.user.repair_logs.defer("rows")  # repair logs (planner.repairlog) are listed here too
+    return render(request, "planner/history/list.html", {"histories": histories, "repair_logs": repair_logs})
 
 
 @csrf_exempt  # the body is not read before the size check below; _history_upload checks the CSRF token

@@ -133,6 +133,9 @@ class Kind:
         count laws as JSON-shaped dicts or the observed change table, a weekday pattern); ``start``,
         ``high`` (None: no capacity) and ``horizon`` are what the analyst gave on the fit page.
         ValueError naming what does not fit; the fit page then shows it beside the button.
+        A repair log's fit is a ``planner.repairlog.fit.FittedRates`` (``record == "repair_log"``: units,
+        spares, failure and repair rates per time unit); ``horizon`` is then the mission. A kind returns
+        None for a record it is not made from.
         """
         return None
 
@@ -173,6 +176,21 @@ def get_kind(key: str) -> Kind:
 
 def all_kinds() -> list[Kind]:
     return list(_KINDS.values())
+
+
+def plan_options(fitted, *, start: int, high: int | None, horizon: int) -> list[dict]:
+    """Every kind made from ``fitted`` (a history's or a repair log's fit), each with the reason it cannot take
+    this one ("" when it can): ``{"kind", "refusal"}``. Builds parameters only (no law, no computation)."""
+    options = []
+    for kind in all_kinds():
+        try:
+            params = kind.params_from_fit(fitted, start=start, high=high, horizon=horizon)
+        except ValueError as refusal:
+            options.append({"kind": kind, "refusal": str(refusal)})
+            continue
+        if params is not None:
+            options.append({"kind": kind, "refusal": ""})
+    return options
 
 
 def discover() -> None:

@@ -104,8 +104,9 @@ def test_same_seed_same_band_other_seed_other_band(flour):
 
 def test_work_is_priced_before_any_sweep(flour, monkeypatch):
     arrivals, demand = flour
-    work = wm.risk_band_work(arrivals=arrivals, demand=demand, horizon=30, draws=40, seed=7, **STORE)
-    band = wm.risk_band(arrivals=arrivals, demand=demand, horizon=30, draws=40, seed=7, **STORE)
+    # one by one (the batched sweep's price: tests/walkmath/test_drawsweep.py)
+    work = wm.risk_band_work(arrivals=arrivals, demand=demand, horizon=30, draws=40, seed=7, batch=False, **STORE)
+    band = wm.risk_band(arrivals=arrivals, demand=demand, horizon=30, draws=40, seed=7, batch=False, **STORE)
     assert band.work.units == work.units
     # the price is each draw's outlook price plus the combining convolutions
     rng = np.random.default_rng(7)
@@ -122,7 +123,9 @@ def test_work_is_priced_before_any_sweep(flour, monkeypatch):
 
     monkeypatch.setattr(wm.BandedWalk, "outlook", no_sweep)
     with pytest.raises(wm.ComputeTooLarge, match=r"risk_band \(40 draws\) needs .* To fit, use fewer draws"):
-        wm.risk_band(arrivals=arrivals, demand=demand, horizon=30, draws=40, seed=7, cap=work.units - 1, **STORE)
+        wm.risk_band(
+            arrivals=arrivals, demand=demand, horizon=30, draws=40, seed=7, cap=work.units - 1, batch=False, **STORE
+        )
 
 
 def test_risk_band_refusals(flour):

@@ -16,8 +16,10 @@ START_LEAD_TIME = 1
 START_TARGET = 0.95
 
 
-def params_from_fit(fitted, *, start: int, high: int | None, horizon: int) -> ReorderPlanParams:
+def params_from_fit(fitted, *, start: int, high: int | None, horizon: int) -> ReorderPlanParams | None:
     """``start``, ``high`` and ``horizon`` (a stock plan's inputs) do not enter a reorder plan."""
+    if getattr(fitted, "record", "history") != "history":  # a repair log's fit: not a stock record
+        return None
     if fitted.demand is None:
         raise ValueError(
             "A reorder plan needs the demand itself: upload the units in and out, not only the stock levels."

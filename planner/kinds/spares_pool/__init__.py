@@ -13,7 +13,7 @@ import numpy as np
 import walkmath as wm
 from planner.formatting import number, probability
 from planner.kinds import Kind, Part, register
-from planner.kinds.spares_pool import charts, tables
+from planner.kinds.spares_pool import charts, from_fit, tables
 from planner.kinds.spares_pool.compute import SparesJob
 from planner.kinds.spares_pool.forms import PoolFields, SparesPoolForm, WhatIfForm, form_initial
 from planner.kinds.spares_pool.params import SparesPoolParams
@@ -65,6 +65,12 @@ class SparesPoolKind(Kind):
     def sample_changes(self, params) -> list[dict]:
         """One spare fewer, as saved and one more, for the benchmarks and the load test."""
         return [{"spares": value} for value in sorted({max(0, params.spares - 1), params.spares, params.spares + 1})]
+
+    def params_from_fit(self, fitted, *, start, high, horizon):
+        return from_fit.params_from_fit(fitted, start=start, high=high, horizon=horizon)
+
+    def fit_note(self, fitted) -> str:
+        return from_fit.fit_note(fitted)
 
     def preview_form(self, data):
         return PoolFields(data)

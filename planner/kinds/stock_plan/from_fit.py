@@ -12,7 +12,9 @@ from __future__ import annotations
 from planner.kinds.stock_plan.params import CountLaw, StockPlanParams
 
 
-def params_from_fit(fitted, *, start: int, high: int | None, horizon: int) -> StockPlanParams:
+def params_from_fit(fitted, *, start: int, high: int | None, horizon: int) -> StockPlanParams | None:
+    if getattr(fitted, "record", "history") != "history":  # a repair log's fit: not a stock record
+        return None
     common = {
         "period": fitted.period,
         "start": start,

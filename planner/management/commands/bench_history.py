@@ -1,11 +1,12 @@
-"""Time the history pages on the demo history (a benchmark, not a test): load_demo first.
+"""Time the history pages on the demo history and the demo repair log's page (a benchmark, not a test).
 
 Runs the real views through Django's test client against the configured
 database: the upload of the demo file with its preview, then the fit page
 for a few start/capacity/horizon inputs, each the median of several calls,
 with the draws the page's budget afforded. The credible range spends about
 the whole ``PLANNER_COMPUTE_CAP`` whenever it is shown, so these pages are
-also the costliest the cap allows at their sizes.
+also the costliest the cap allows at their sizes. Run load_demo first. Last,
+each demo repair log's page (its fit and the availability's credible range).
 """
 
 import statistics
@@ -17,7 +18,7 @@ from django.test import Client
 from django.urls import reverse
 
 from planner.history.demo import DEMO_FILE
-from planner.models import SavedHistory
+from planner.models import SavedHistory, SavedRepairLog
 
 INPUTS = [
     {"start": 200, "high": 400, "horizon": 28},
@@ -57,6 +58,15 @@ class Command(BaseCommand):
             self.stdout.write(
                 f"fit page, start {query['start']}, capacity {capacity}, {query['horizon']} days: median {wall:.0f} ms "
                 f"(server {server:.0f} ms), {draws} draws (status {response.status_code})"
+            )
+        for saved in SavedRepairLog.objects.filter(owner=user).order_by("pk"):
+            url = saved.get_absolute_url()
+            body = client.get(url).content.decode()
+            draws = body.split('id="draws">', 1)[1].split("<", 1)[0] if 'id="draws">' in body else "-"
+            wall, _ = self._time(lambda url=url: client.get(url), repeat)
+            self.stdout.write(
+                f"repair log page, {saved.failures} failures, {saved.units} units + {saved.spares} spares: "
+                f"median {wall:.0f} ms, {draws} draws of the rates"
             )
 
     @staticmethod

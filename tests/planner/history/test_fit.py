@@ -121,7 +121,9 @@ def test_too_small_a_budget_for_the_draws_leaves_the_range_out_and_says_why(fit)
 
 
 def result_unit(job) -> int:
-    return math.ceil(wm.risk_band_work(**job._band_args(10)).units / 10 * PILOT_MARGIN)
+    """A draw's price as the job learns it: the growth from 10 to 20 draws (batched sweeps have a fixed part)."""
+    growth = wm.risk_band_work(**job._band_args(20)).units - wm.risk_band_work(**job._band_args(10)).units
+    return math.ceil(growth / 10 * PILOT_MARGIN)
 
 
 def test_too_small_a_budget_for_the_risk_itself_is_refused_before_any_sweep(fit, monkeypatch):
