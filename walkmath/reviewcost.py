@@ -16,6 +16,7 @@ from walkmath.policy import LEAD_CAP, UNMET_RULES, PeriodicReview, _count_law
 from walkmath.reviewdesign import (
     MEASURES,
     _base_stock_bound,
+    _inside,
     _lost_solves_work,
     _order_up_to_grid,
     _policy_grid,
@@ -50,7 +51,7 @@ def order_up_to_work(
     gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
     lead = _lead_work(demand, lead_time, unmet)
     if unmet == "lost" and lead_time > 0 and gap == 1:
-        include = tuple(checks.whole("include", level, minimum=gap, maximum=top) for level in include)
+        include = _inside(include, gap, top)
         bound = top
         if target is not None:
             target = checks.open_probability("target", target)

@@ -203,6 +203,12 @@ def _search_work(method: str, demand: StepLaw, lead_time: int, unmet: str, top: 
     return Work(method, top + gaps + lead_levels, gaps, 7 * (top + 1) + lead_levels, knob=_KNOB)
 
 
+def _inside(include, gap: int, top: int) -> tuple[int, ...]:
+    """The asked-for levels that are candidates (gap..top), whole numbers; others are left out."""
+    levels = {checks.whole("include", level, minimum=0, maximum=LEVEL_CAP) for level in include}
+    return tuple(sorted(level for level in levels if gap <= level <= top))
+
+
 def _lost_solves_work(method: str, demand: StepLaw, lead_time: int, bound: int, include) -> Work:
     """Chain solves of a lost-sales order-up-to search: the bisection below ``bound``, the grid, ``include``.
 
@@ -283,12 +289,12 @@ def smallest_order_up_to(
     measure over all S (exact up to rounding, curves monotone in S).
 
     Lost sales with a lead time: for gap 1 a bisection over S, the curve on the levels solved plus
-    ``include`` (levels in gap..top the caller wants on it); for a larger gap every candidate is solved
+    ``include`` (levels the caller wants on it; those outside gap..top are left out); for a larger gap every candidate is solved
     and the curves are as computed (no monotonicity is proved there). See the module's docstring.
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
     gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
-    include = tuple(sorted({checks.whole("include", level, minimum=gap, maximum=top) for level in include}))
+    include = _inside(include, gap, top)
     shared = _Shared(demand, lead_time, unmet, top, gap)
     if not shared.shared and gap == 1:
         return _lost_order_up_to(shared, target, measure, top, include)
