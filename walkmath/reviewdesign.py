@@ -289,8 +289,9 @@ def smallest_order_up_to(
     measure over all S (exact up to rounding, curves monotone in S).
 
     Lost sales with a lead time: for gap 1 a bisection over S, the curve on the levels solved plus
-    ``include`` (levels the caller wants on it; those outside gap..top are left out); for a larger gap every candidate is solved
-    and the curves are as computed (no monotonicity is proved there). See the module's docstring.
+    ``include`` (levels the caller wants on it; those outside gap..top are left out); for a larger
+    gap every candidate is solved and the curves are as computed (no monotonicity is proved there).
+    See the module's docstring.
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
     gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
