@@ -243,21 +243,25 @@ class ReorderJob:
     def _policy_units(self) -> int:
         """The review policy's work: the cycle's demand law, the order-up-to search, the chosen policy.
 
-        The cycle's law is priced, not built: for a cycle longer than one period a stand-in with its
+        The cycle's law is priced, not built (except for lost sales with a lead time, whose chains
+        are priced on it when it is cheap to build): for a cycle longer than one period a stand-in with its
         span and mean prices the searches' sweeps, and each lead-time law (the search's and the chosen
         policy's) is priced as the period's law over the same periods.
         """
         p = self.params
         cycle, lead, gap = p.review_cycle, p.policy_lead_cycles, p.order_quantity or 1
         law = self.demand if cycle == 1 else self._stand_in(cycle)
+        real = cycle == 1
+        if self._chain_search and not real and wm.law_power_work(self.demand, cycle).units <= BOUND_SEARCH_UNITS:
+            law, real = self._cycle_demand(), True  # cheap to build, and it bounds the chains far better
         top = gap - 1 + (lead + 1) * law.highest  # no stock-out there: bounds the answer
         chosen = top  # the chosen level is at most the search's top
         if self._chain_search:
-            # The bisection's bound is found from the real law's backorder search when the law is the period's
-            # and that search is cheap; a stand-in's would not bound the real one, and a costly one is not run
-            # to price a chain that large: the solves are then priced up to ``top`` (and refused).
+            # The bisection's bound is found from the real cycle law's backorder search when that search is
+            # cheap; a stand-in's would not bound the real one, and a costly one is not run to price a chain
+            # that large: the solves are then priced up to ``top`` (and refused).
             cheap = wm.order_up_to_work(law, lead, "backorder", gap=1, top=top).units <= BOUND_SEARCH_UNITS
-            target = p.target if cycle == 1 and cheap else None
+            target = p.target if real and cheap else None
             _, include = self._search_extent(law, gap)
             units = wm.order_up_to_work(
                 law, lead, p.unmet, gap=gap, top=top, target=target, measure=p.measure, include=include

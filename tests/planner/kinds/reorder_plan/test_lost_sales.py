@@ -184,3 +184,20 @@ def test_whatif_changes_apply_and_read_in_words():
     variant = apply_changes(saved, {"unmet": "lost"})
     assert variant.unmet == "lost"
     assert describe_changes(saved, variant) == ["when the shelf is empty: customers wait → the sale is lost"]
+
+
+def test_counted_plan_works_the_policy_out_on_the_demand_between_counts():
+    # Counted every 2 weeks, lead time 2 weeks (one review cycle): the policy runs on the demand over two
+    # weeks, the tyres' law convolved with itself in exact fractions, and the literal chain solved on it.
+    two_weeks: dict[int, Fraction] = {}
+    for first, p in TYRES.items():
+        for second, q in TYRES.items():
+            two_weeks[first + second] = two_weeks.get(first + second, Fraction(0)) + p * q
+    result = run(tyres_plan(review_period=2, lead_time=2, target=0.9))
+    level = result.policy.order_up_to
+
+    def service(big_s):
+        return 1 - periodic_review_long_run(two_weeks, big_s - 1, big_s, 1, "lost")["stockout"]
+
+    assert service(level) >= Fraction(9, 10) and (level == 1 or service(level - 1) < Fraction(9, 10))
+    assert "With sales lost when the shelf is empty, at each count (every 2 weeks), order" in result.recommendation
