@@ -106,8 +106,10 @@ class PeriodicReview:
             top = max(self.order_up_to, start or 0)
             return chain_work("stockout_risk", self._states(top), jumps, horizon=horizon)
         if self.unmet == "lost" and self.lead_time > 0:
-            # The state search; the GTH solve is priced again on the closed class found, before it runs.
-            return chain_work("steady_state", self._states(self.order_up_to), jumps)
+            # The state search and GTH, both on the bound of the states; GTH is priced again on the closed
+            # class found, before it runs.
+            states = self._states(self.order_up_to)
+            return chain_work("steady_state", states, jumps) + gth_work(states)
         return position_work(self.demand, self.order_up_to, self.order_up_to - self.reorder_level, self.lead_time)
 
     def _states(self, top: int) -> int:

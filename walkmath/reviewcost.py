@@ -13,25 +13,53 @@ from walkmath import checks
 from walkmath.cost import Work
 from walkmath.distribution import law_power_work
 from walkmath.policy import LEAD_CAP, UNMET_RULES, PeriodicReview, _count_law
-from walkmath.reviewdesign import _order_up_to_grid, _policy_grid, _price, _search_work
+from walkmath.reviewdesign import (
+    MEASURES,
+    _base_stock_bound,
+    _inside,
+    _lost_solves_work,
+    _order_up_to_grid,
+    _policy_grid,
+    _price,
+    _search_work,
+)
 from walkmath.steplaw import StepLaw
 
 
 def order_up_to_work(
-    demand: StepLaw, lead_time: int = 0, unmet: str = "lost", gap: int = 1, top: int | None = None
+    demand: StepLaw,
+    lead_time: int = 0,
+    unmet: str = "lost",
+    gap: int = 1,
+    top: int | None = None,
+    *,
+    target: float | None = None,
+    measure: str = "cycle",
+    include: tuple[int, ...] = (),
 ) -> Work:
     """Priced work of ``smallest_order_up_to`` with these arguments (its default ``top`` included).
 
     Nothing is solved for backorders or lead time 0; lost sales with a lead time
-    first find the default top (a backorder search, itself cheap).
+    first find the default top (a backorder search, itself cheap). An order-up-to
+    search with lost sales and a lead time is a bisection: with ``target`` given,
+    its chain solves are priced below the backorder answer for that target (found
+    here, cheaply, as the search finds it), without it below ``top``.
     """
     demand = _count_law(demand)
     lead_time = checks.whole("lead_time", lead_time, minimum=0, maximum=LEAD_CAP)
     unmet = checks.choice("unmet", unmet, UNMET_RULES)
     gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
-    return _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, top - gap + 1) + _lead_work(
-        demand, lead_time, unmet
-    )
+    lead = _lead_work(demand, lead_time, unmet)
+    if unmet == "lost" and lead_time > 0 and gap == 1:
+        include = _inside(include, gap, top)
+        bound = top
+        if target is not None:
+            target = checks.open_probability("target", target)
+            measure = checks.choice("measure", measure, MEASURES)
+            bound, _ = _base_stock_bound(demand, target, measure, lead_time, top)
+            lead = law_power_work(demand, lead_time)  # the backorder search's lead-time law
+        return _lost_solves_work("smallest_order_up_to", demand, lead_time, bound, include) + lead
+    return _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, top - gap + 1) + lead
 
 
 def best_policy_work(

@@ -11,8 +11,49 @@ built from shared pieces rather than one policy solve per candidate:
 * for a fixed gap, every order-up-to level S reads the same drop law, and each
   measure over all S is one direct convolution with a one-period demand table.
 
-Lost sales with a lead time have no such shared form (the pipeline chain
-changes with S); there each candidate is one priced chain solve.
+Lost sales with a lead time have no such shared form: the pipeline chain on
+(on hand, orders due) changes with S, and each policy is its own state search
+and GTH solve (walkmath/reviewchain.py). What is shared there:
+
+* for an order-up-to policy (s = S - 1), the search is a bisection over S
+  (``smallest_order_up_to``), which is sound because both facts below are
+  proved, not assumed:
+
+  1. Service grows with S (coupling). Run the policies for S and S + 1 on the
+     same demands, from S and S + 1 on hand. At every review after ordering,
+     the S + 1 system holds the S system's stock plus one extra unit, on the
+     shelf or in one order due: the positions differ by 1, so both order at
+     the same reviews, the same amounts; while the extra unit is on order both
+     shelves are equal; on the shelf, it is either kept, or sold in a period
+     whose demand empties the S shelf, after which the positions are equal and
+     the S + 1 system orders exactly one unit more at the next review. So the
+     S + 1 shelf is never below the S shelf when demand comes: every stock-out
+     of the S + 1 system is one of the S system, it sells at least as much and
+     ends each period with at least as much on hand. Long-run measures are
+     averages over periods of the chain (one closed class), so the stock-out
+     probability and the mean units short do not grow with S, the in-stock
+     probability, fill rate and mean on hand do not fall. (The same sample-path
+     idea as Janakiraman and Roundy, "Lost-sales problems with stochastic lead
+     times: convexity results for base-stock policies", Operations Research 52,
+     2004; from memory.) With a gap above 1 the orders differ and the coupling
+     fails, so those searches test every candidate and force no monotonicity.
+  2. Backorders bound lost sales from below (same coupling idea). With an
+     order-up-to policy, after ordering the position is S, so the lost-sales
+     shelf at a period's demand is S minus the units sold in the last L
+     periods, and the backorder net stock is S minus the demand of the same
+     periods; sales never exceed demand, so the lost-sales shelf is at least the
+     backorder net stock on every path and its service at least as high. The
+     backorder system's smallest S (the renewal form: cheap, every S at once) is
+     therefore an S at which lost sales meet the target: the bisection's top.
+
+  Cost: the backorder search, then at most ceil(log2 S_b) + 2 chain solves
+  (S_b the backorder answer) plus a coarse grid of ``GRID_POINTS`` levels and
+  any levels the caller asks for (``include``), each priced at the largest of
+  them (``_lost_solves_work``), instead of one solve for every S up to the
+  search's top; the curve holds only the levels solved, each exact on its own,
+  made monotone by a running max / min (fact 1).
+* the one-period demand tables are built once per policy solve; the chains
+  themselves share nothing (each candidate's states are found afresh).
 
 Service measures: "cycle" = P(no stock-out in a period), "fill" = fill rate.
 Cost per period = holding x mean on hand + order cost x orders per period +
@@ -54,13 +95,17 @@ PRICE_CAP = 1e12
 LOST_EDGE = 1e-9
 _SERVICE = {"cycle": ("in_stock_probability", "stockout_probability"), "fill": ("fill_rate", "unfilled_share")}
 _KNOB = "lower top (the largest order-up-to level searched), the largest gap, or coarsen the demand units"
+# Levels of the coarse grid solved for the curve of an order-up-to search with lost sales and a lead time.
+GRID_POINTS = 9
 
 
 @dataclass(frozen=True, eq=False)
 class LevelSearch:
     """Smallest level meeting a service target and the service at every candidate level.
 
-    ``levels`` are the candidates (order-up-to levels S, or reorder levels s);
+    ``levels`` are the candidates (order-up-to levels S, or reorder levels s), every one in range
+    except for an order-up-to search with lost sales and a lead time, where they are the levels solved
+    (the bisection's, a coarse grid and those asked for: see the module's docstring);
     ``service[i]`` the measure there, ``shortfall[i]`` its complement from its own
     side; ``stockout``, ``fill_rate``, ``mean_on_hand``, ``orders_per_period`` the
     other measures at each candidate; ``mean_short`` the mean units of demand not
@@ -194,6 +239,43 @@ def _search_work(method: str, demand: StepLaw, lead_time: int, unmet: str, top: 
     return Work(method, top + gaps + lead_levels, gaps, 7 * (top + 1) + lead_levels, knob=_KNOB)
 
 
+def _inside(include, gap: int, top: int) -> tuple[int, ...]:
+    """The asked-for levels that are candidates (gap..top), whole numbers; others are left out."""
+    levels = {checks.whole("include", level, minimum=0, maximum=LEVEL_CAP) for level in include}
+    return tuple(sorted(level for level in levels if gap <= level <= top))
+
+
+def _lost_solves_work(method: str, demand: StepLaw, lead_time: int, bound: int, include) -> Work:
+    """Chain solves of a lost-sales order-up-to search: the bisection below ``bound``, the grid, ``include``.
+
+    Each solve (state search and GTH) is priced on the state bound of its level; the bisection's
+    levels, not known in advance, each at ``bound``.
+    """
+    jumps = demand.probs.size
+
+    def solve(level: int) -> int:
+        states = state_bound(level, lead_time, level, 1)
+        return chain_work(method, states, jumps).units + gth_work(states).units
+
+    bisection = math.ceil(math.log2(bound + 1)) + 2
+    levels = [*_grid(bound).tolist(), *include]
+    units = bisection * solve(bound) + sum(solve(level) for level in levels)
+    states = state_bound(max([bound, *include]), lead_time, max([bound, *include]), 1)
+    return Work(method, states, bisection + len(levels), jumps, copies=0, dense=units, knob=_KNOB)
+
+
+def _grid(bound: int) -> np.ndarray:
+    """The coarse grid of order-up-to levels 1..bound solved for the curve."""
+    return np.unique(np.rint(np.linspace(1, bound, GRID_POINTS)).astype(int))
+
+
+def _base_stock_bound(demand: StepLaw, target: float, measure: str, lead_time: int, top: int) -> tuple[int, bool]:
+    """An order-up-to level where lost sales surely meet the target (the backorder answer; fact 2 of the
+    module's docstring), and True; or ``top`` and False when backorders do not meet it by ``top``."""
+    back = smallest_order_up_to(demand, target, measure, lead_time, "backorder", gap=1, top=top)
+    return (back.answer, True) if back.answer is not None else (top, False)
+
+
 def _meets(service: np.ndarray, shortfall: np.ndarray, target: float) -> np.ndarray:
     # Above 1/2 decide on the shortfall side, where 1 - target is exact (no cancellation).
     return service >= target if target <= 0.5 else shortfall <= 1.0 - target
@@ -233,6 +315,7 @@ def smallest_order_up_to(
     unmet: str = "lost",
     gap: int = 1,
     top: int | None = None,
+    include: tuple[int, ...] = (),
 ) -> LevelSearch:
     """Smallest S (with s = S - ``gap``; gap 1 is an order-up-to policy) whose long-run service meets ``target``.
 
@@ -240,19 +323,60 @@ def smallest_order_up_to(
     happen, so an answer always exists then (lost sales with a lead time: see
     ``_default_top``; the answer is None if the target is not met by then). One drop law, one convolution per
     measure over all S (exact up to rounding, curves monotone in S).
+
+    Lost sales with a lead time: for gap 1 a bisection over S, the curve on the levels solved plus
+    ``include`` (levels the caller wants on it; those outside gap..top are left out); for a larger
+    gap every candidate is solved and the curves are as computed (no monotonicity is proved there).
+    See the module's docstring.
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
     gap, top = _order_up_to_grid(demand, lead_time, unmet, gap, top)
+    include = _inside(include, gap, top)
+    shared = _Shared(demand, lead_time, unmet, top, gap)
+    if not shared.shared and gap == 1:
+        return _lost_order_up_to(shared, target, measure, top, include)
     levels = np.arange(gap, top + 1)
     _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size).check()
-    shared = _Shared(demand, lead_time, unmet, top, gap)
     if shared.shared:
         _, drop, orders = next(shared.drops([gap]))
         curves = shared.curves(drop, levels)
         orders = np.full(levels.size, orders)
     else:
         curves, orders = shared.chain_curves(gap, levels)
-        curves = _monotone(curves)
+    return _level_search(measure, target, levels, curves, orders)
+
+
+def _lost_order_up_to(shared: _Shared, target: float, measure: str, top: int, include) -> LevelSearch:
+    """Order-up-to search with lost sales and a lead time: bisection below the backorder answer (module docstring)."""
+    demand, lead_time = shared.demand, shared.lead_time
+    bound, sure = _base_stock_bound(demand, target, measure, lead_time, top)
+    _lost_solves_work("smallest_order_up_to", demand, lead_time, bound, include).check()
+    good, bad = _SERVICE[measure]
+    solved: dict[int, PolicyMeasures] = {}
+
+    def meets(level: int) -> bool:
+        if level not in solved:
+            solved[level] = PeriodicReview(demand, level - 1, level, lead_time, "lost").measures()
+        row = solved[level]
+        return bool(_meets(np.array(getattr(row, good)), np.array(getattr(row, bad)), target))
+
+    low, high = 1, bound
+    if not sure and not meets(bound):
+        low = high = None
+    while low is not None and low < high:  # invariant: bound meets; every level below low fails
+        middle = (low + high) // 2
+        low, high = (low, middle) if meets(middle) else (middle + 1, high)
+    if low is not None:
+        meets(low)
+    for level in [*_grid(bound).tolist(), *include]:
+        meets(level)
+    levels = np.array(sorted(solved))
+    names = [name for name in PolicyMeasures.__dataclass_fields__ if name != "orders_per_period"]
+    curves = {name: np.array([getattr(solved[level], name) for level in levels]) for name in names}
+    orders = np.array([solved[level].orders_per_period for level in levels])
+    curves = _monotone(curves)  # fact 1 of the module's docstring: each measure is monotone in S
+    curves["mean_on_hand"] = np.maximum.accumulate(curves["mean_on_hand"])
+    curves["mean_short"] = np.minimum.accumulate(curves["mean_short"])
     return _level_search(measure, target, levels, curves, orders)
 
 
@@ -276,8 +400,9 @@ def smallest_reorder_level(
 ) -> LevelSearch:
     """Smallest reorder level s in 0..S-1, for a given S, whose long-run service meets ``target``.
 
-    A higher s orders sooner, so service grows with s. The drop laws for gaps
-    S - s = 1..S come one from the other (one shifted copy each); each is read at
+    A higher s orders sooner, so service grows with s (for the shared forms; lost sales with a lead
+    time solve each s and force no monotonicity, the answer being the first s meeting the target).
+    The drop laws for gaps S - s = 1..S come one from the other (one shifted copy each); each is read at
     the one level S by dot products. Curves monotone in s.
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
@@ -298,7 +423,9 @@ def smallest_reorder_level(
     # Gaps 1..S are reorder levels S-1..0: reverse so that levels run upwards.
     curves = {name: np.array([row[name][0] for row in rows[::-1]]) for name in rows[0]}
     levels = np.arange(0, order_up_to)
-    return _level_search(measure, target, levels, _monotone(curves), np.array(orders[::-1]))
+    if shared.shared:  # the shared forms' service grows with s; lost sales with a lead time: as computed
+        curves = _monotone(curves)
+    return _level_search(measure, target, levels, curves, np.array(orders[::-1]))
 
 
 def _monotone(curves: dict[str, np.ndarray]) -> dict[str, np.ndarray]:

@@ -328,7 +328,7 @@ def reorder_point_plan(
     if measure == "cycle":
         points = np.arange(0, top + 1)
         service, shortfall = below.copy(), above.copy()
-        z = float(special.ndtri(target))
+        z = _normal_z(target, measure, quantity, sigma)
         normal_service = special.ndtr((points + 0.0 - mean) / sigma) if sigma > 0 else (points >= mean) * 1.0
     else:
         Work("fill_rate_curve", top + quantity + 1, 1, quantity).check()
@@ -343,7 +343,7 @@ def reorder_point_plan(
         # curves are made monotone as the quantities they approximate are.
         service = np.minimum(np.maximum.accumulate(service), 1.0)
         shortfall = np.minimum(np.minimum.accumulate(shortfall), 1.0)
-        z = normal_loss_inverse((1.0 - target) * quantity / sigma) if sigma > 0 else 0.0
+        z = _normal_z(target, measure, quantity, sigma)
         normal_loss_values = sigma * normal_loss((points - mean) / sigma) if sigma > 0 else np.maximum(mean - points, 0)
         normal_service = np.clip(1.0 - normal_loss_values / quantity, 0.0, 1.0)
     loss = np.cumsum(above[::-1])[::-1]  # B(k) = sum_{j >= k} P(D > j), k = 0..top
@@ -351,7 +351,7 @@ def reorder_point_plan(
     expected_short = np.where(points < 0, below_zero + loss[0], loss[np.maximum(points, 0)])
     index = _first_meeting(service, shortfall, target)
     point = int(points[index])
-    normal_point = math.ceil(mean + z * sigma - 1e-9 * max(1.0, abs(mean)))  # a whole unit, rounded up
+    normal_point = _normal_point(mean, sigma, z)
     # Beyond the curve's ends the service is exactly 0 (below) or 1 (above the largest demand).
     normal_index = normal_point - int(points[0])
     normal_achieved = 0.0 if normal_index < 0 else float(service[min(normal_index, service.size - 1)])
@@ -378,6 +378,34 @@ def reorder_point_plan(
         expected_short=expected_short,
         protection=law,
     )
+
+
+def normal_reorder_point(
+    demand: StepLaw,
+    lead_time: int | StepLaw,
+    target: float,
+    measure: str = "cycle",
+    order_quantity: int | None = None,
+    review_period: int = 0,
+) -> int:
+    """The normal rule's reorder point alone (common practice), from the demand's mean and variance only:
+    the same whole unit ``reorder_point_plan`` reports as ``normal_reorder_point``, without building a law."""
+    target = checks.open_probability("target", target)
+    measure = checks.choice("measure", measure, MEASURES)
+    quantity = _order_quantity(order_quantity) if measure == "fill" else None
+    mean, sigma = _normal_moments(demand, lead_time, review_period)
+    return _normal_point(mean, sigma, _normal_z(target, measure, quantity, sigma))
+
+
+def _normal_z(target: float, measure: str, quantity: int | None, sigma: float) -> float:
+    """z of the normal rule: the target's quantile (cycle), or the unit normal loss G(z) = (1 - target) Q / sigma."""
+    if measure == "cycle":
+        return float(special.ndtri(target))
+    return normal_loss_inverse((1.0 - target) * quantity / sigma) if sigma > 0 else 0.0
+
+
+def _normal_point(mean: float, sigma: float, z: float) -> int:
+    return math.ceil(mean + z * sigma - 1e-9 * max(1.0, abs(mean)))  # a whole unit, rounded up
 
 
 def _first_meeting(service: np.ndarray, shortfall: np.ndarray, target: float) -> int:

@@ -84,3 +84,40 @@ def test_analyst_sets_a_reorder_point_for_oven_igniters(page, live_server, owner
     page.wait_for_selector("#whatif-form[data-state=done]")
     assert "lead time 4 days → 8 days" in page.inner_text("#whatif-changes")
     assert no_sideways_scroll(page)
+
+
+def test_analyst_plans_bread_crates_whose_sales_are_lost(page, live_server, owner):
+    # A harbour-shop shelf of bread crates: a customer who finds it empty buys elsewhere (lost sales).
+    page.set_viewport_size({"width": WIDTHS["desktop"], "height": 900})
+    sign_in(page, live_server, "olwen")
+    page.goto(f"{live_server.url}/scenarios/new/reorder_plan/")
+    page.wait_for_selector("#scenario-form[data-preview-state]", state="attached", timeout=60_000)
+    page.fill("input[name=title]", "Harbour shop crates")
+    page.fill("input[name=unit]", "crates")
+    page.select_option("select[name=demand_family]", "poisson")
+    page.fill("input[name=demand_mean]", "1.5")
+    page.check("input[name=lead_time_method][value=fixed]")
+    page.fill("input[name=lead_time]", "2")
+    page.check("input[name=measure][value=cycle]")
+    page.fill("input[name=service_target]", "95 %")
+    page.check("input[name=unmet][value=lost]")
+    page.click("#scenario-form button[type=submit].primary")
+    scenario = Scenario.objects.get()
+    page.wait_for_url(f"{live_server.url}/scenarios/{scenario.pk}/")
+    assert scenario.parameters["unmet"] == "lost"
+
+    recommendation = page.inner_text("#recommendation")
+    assert "With sales lost when the shelf is empty, each day, order the stock back up to" in recommendation
+    assert "unmet demand is lost" in page.inner_text("#plan-summary")
+    wait_for_charts(page)
+    axis = page.evaluate("document.getElementById('fig-stock').layout.xaxis.title.text")
+    assert axis.startswith("stock on hand (crates")
+    assert no_sideways_scroll(page)
+
+    # What-if: customers wait instead; the page says what changed.
+    page.select_option("#whatif-form select[name=unmet]", "backorder")
+    page.wait_for_selector("#whatif-form[data-state=done]")
+    page.wait_for_function(
+        "() => (document.getElementById('whatif-changes') || {}).textContent?.includes('customers wait')"
+    )
+    assert "when the shelf is empty: the sale is lost → customers wait" in page.inner_text("#whatif-changes")

@@ -64,6 +64,8 @@ def test_demo_reorder_plans_show_the_normal_rule_both_ways():
     assert [(r.reorder_point, r.normal_reorder_point) for r in slow if r.under_protects] == [(12, 7)]
     assert [(r.reorder_point, r.normal_reorder_point) for r in slow if r.over_protects] == [(1, 2)]
     assert any(r.params.review_period and r.policy is not None for r in results)  # a counted store, exact
+    # a shelf whose empty days lose the sale: its review policy (the answer then) is worked out
+    assert any(r.params.unmet == "lost" and r.policy is not None for r in results)
     assert all(not r.left_out for r in results)
 
 

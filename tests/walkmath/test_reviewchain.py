@@ -48,3 +48,17 @@ def test_closed_class_is_found_and_two_classes_are_refused():
     two = sparse.csr_matrix(np.array([[0, 0.5, 0.5], [0, 1, 0], [0, 0, 1]], dtype=float))
     with pytest.raises(ValueError, match="2 closed classes"):
         closed_class(two)
+
+
+def test_blocked_gth_matches_a_dense_linear_solve_across_several_blocks():
+    # 300 states: four blocks of 64 and a remainder, so the block products are exercised. numpy.linalg
+    # least squares on pi (P - I) = 0, sum pi = 1 as the reference (a well-conditioned sparse-ish chain).
+    rng = np.random.default_rng(11)
+    size = 300
+    matrix = rng.random((size, size)) * (rng.random((size, size)) < 0.05)
+    matrix[np.arange(size), (np.arange(size) + 1) % size] += 0.2  # a cycle through every state: irreducible
+    matrix /= matrix.sum(axis=1, keepdims=True)
+    system = np.vstack([(matrix - np.eye(size)).T, np.ones(size)])
+    reference, *_ = np.linalg.lstsq(system, np.append(np.zeros(size), 1.0), rcond=None)
+    np.testing.assert_allclose(gth_steady_state(matrix), reference, rtol=1e-10)
+    np.testing.assert_allclose(gth_steady_state(matrix, block=7), gth_steady_state(matrix, block=300), rtol=1e-12)

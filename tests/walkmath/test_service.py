@@ -341,3 +341,13 @@ def test_plan_keeps_the_protection_law_its_curves_come_from():
     direct = protection_demand(demand, 4, 1)
     np.testing.assert_array_equal(plan.protection.probs, direct.probs)
     np.testing.assert_array_equal(plan.protection.levels, direct.levels)
+
+
+@pytest.mark.parametrize("measure, quantity", [("cycle", None), ("fill", 10), ("fill", 1)])
+@pytest.mark.parametrize("target", [0.6, 0.95, 0.999])
+def test_normal_reorder_point_alone_is_the_plan_s_normal_rule(measure, quantity, target):
+    # The same common-practice rule read two ways: alone (moments only) and inside the full plan.
+    demand = wm.StepLaw.negative_binomial(mean=0.3, variance=1.5)
+    alone = wm.normal_reorder_point(demand, 4, target, measure, quantity, review_period=2)
+    plan = wm.reorder_point_plan(demand, 4, target, measure, quantity, review_period=2)
+    assert alone == plan.normal_reorder_point

@@ -169,6 +169,7 @@ def stock_chart(result: ReorderResult) -> dict:
     levels, probs = stock.levels[shown], stock.probs[shown]
     short, kept = levels < 0, levels >= 0
     rhythm = policy_rhythm(result.params)
+    lost = result.params.unmet == "lost"
     end = f"the end of each {period_name(result.period)}" if policy.review_cycle == 1 else "each count, before ordering"
     fig = {
         "data": [
@@ -177,7 +178,9 @@ def stock_chart(result: ReorderResult) -> dict:
         ],
         "layout": layout(
             f"Long-run stock at {end}",
-            f"net stock ({unit}; below 0 = backordered)",
+            f"stock on hand ({unit}; demand beyond it is lost)"
+            if lost
+            else f"net stock ({unit}; below 0 = backordered)",
             "probability",
             log_switch=True,
             y_range=log_range(probs),
@@ -189,7 +192,8 @@ def stock_chart(result: ReorderResult) -> dict:
         f"Counting {rhythm} and ordering up to {units(policy.order_up_to, unit)} at or below "
         f"{units(policy.reorder_level, unit)}, the stock on hand averages {units(measures.mean_on_hand, unit)}; "
         f"the chance of a stock-out in a review cycle is {probability(measures.stockout_probability)} "
-        f"and the fill rate {probability(measures.fill_rate)}."
+        f"and the fill rate {probability(measures.fill_rate)}"
+        + (f"; {units(measures.mean_short, unit)} of demand lost per review cycle on average." if lost else ".")
     )
     return _chart(fig, summary, "long-run-stock")
 
@@ -201,11 +205,14 @@ def order_up_to_chart(result: ReorderResult) -> dict:
     label = policy_service_label(p)
     normal = result.normal_order_up_to
     marks = [policy.order_up_to, normal] + ([policy.cheapest_level] if policy.cheapest_level is not None else [])
-    inside = _decision_range(search.service, search.shortfall, p.target, marks, int(search.levels[0]))
+    if policy.every_level:
+        inside = _decision_range(search.service, search.shortfall, p.target, marks, int(search.levels[0]))
+    else:  # lost sales with a lead time: the few levels worked out, all shown, each marked
+        inside = slice(0, search.levels.size)
     x = search.levels[inside]
     fig = {
         "data": [
-            line(x, search.service[inside], label, OVERFLOW, hover=probability),
+            line(x, search.service[inside], label, OVERFLOW, markers=not policy.every_level, hover=probability),
             target_line(x, p.target, f"target {probability(p.target)}"),
         ],
         "layout": layout(

@@ -14,13 +14,17 @@ Two answers, each exact for its own model:
 * the review policy (``wm.smallest_order_up_to``, ``wm.PeriodicReview``):
   counted every review period (every period when the stock is watched all the
   time), orders of at least the order quantity (one unit when none is given),
-  unmet demand backordered; its smallest order-up-to level meeting the target
-  per review cycle, its long-run stock and, with costs, the cheapest policy.
+  unmet demand backordered or lost as the plan says; its smallest order-up-to
+  level meeting the target per review cycle, its long-run stock and, with
+  costs, the cheapest policy. With lost sales it is the plan's answer (the
+  reorder-point formulas assume backorders), so it is required: a plan too
+  large for it is refused with advice. With lost sales and a lead time the
+  search is a bisection and its curve holds the levels worked out (the
+  bisection's, a coarse grid and the normal rule's level), not every level.
 """
 
 from __future__ import annotations
 
-import contextlib
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -31,7 +35,9 @@ from planner.kinds import Part
 from planner.kinds.reorder_plan import words
 from planner.kinds.reorder_plan.params import ReorderPlanParams
 
-UNMET = "backorder"  # demand the shelf cannot meet waits for the next delivery (the reorder-point formulas' rule)
+# Largest backorder search run while pricing a lost-sales plan (its answer bounds the lost-sales search), in
+# the engine's work units (about 0.025 s); past it the lost-sales chains would be far past any page's cap.
+BOUND_SEARCH_UNITS = 100_000_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -51,24 +57,40 @@ class ReviewPolicy:
     cost: np.ndarray | None
     cheapest_index: int | None  # cheapest order-up-to level meeting the target at this order size
 
+    def index_of(self, order_up_to: int) -> int | None:
+        """Where a level sits on the search's curve, or None if it was not worked out."""
+        levels = self.search.levels
+        index = int(np.searchsorted(levels, order_up_to))
+        return index if index < levels.size and int(levels[index]) == order_up_to else None
+
+    @property
+    def every_level(self) -> bool:
+        """True when the curve holds every level in its range (False: lost sales with a lead time)."""
+        levels = self.search.levels
+        return int(levels[-1]) - int(levels[0]) + 1 == levels.size
+
     @property
     def cost_per_period(self) -> float | None:
         if self.cost is None:
             return None
-        return float(self.cost[self.order_up_to - int(self.search.levels[0])])
+        return float(self.cost[self.index_of(self.order_up_to)])
 
     @property
     def service(self) -> float:
         """The target's measure at the chosen order-up-to level (per review cycle for the cycle service level)."""
-        return float(self.search.service[self.order_up_to - int(self.search.levels[0])])
+        return float(self.search.service[self.index_of(self.order_up_to)])
 
     def service_at(self, order_up_to: int) -> float:
         """The target's measure at any order-up-to level: 0 below the searched ones (nothing in stock to
-        speak of), 1 above them (the search ends where no stock-out can happen)."""
-        index = order_up_to - int(self.search.levels[0])
-        if index < 0:
+        speak of), 1 above them (the search ends where no stock-out can happen). Between levels worked out
+        (lost sales with a lead time) the level below's, a lower bound, as service grows with the level;
+        the job asks the search for the normal rule's level, so the page never needs that."""
+        levels = self.search.levels
+        if order_up_to < levels[0]:
             return 0.0
-        return float(self.search.service[index]) if index < self.search.levels.size else 1.0
+        if order_up_to > levels[-1]:
+            return 1.0
+        return float(self.search.service[int(np.searchsorted(levels, order_up_to, side="right")) - 1])
 
     @property
     def cheapest_level(self) -> int | None:
@@ -161,6 +183,10 @@ class ReorderResult:
         return words.lead_time_words(self.params)
 
     @property
+    def unmet_words(self) -> str:
+        return words.unmet_words(self.params)
+
+    @property
     def review_words(self) -> str:
         return words.review_words(self.params)
 
@@ -217,17 +243,57 @@ class ReorderJob:
     def _policy_units(self) -> int:
         """The review policy's work: the cycle's demand law, the order-up-to search, the chosen policy.
 
-        The cycle's law is priced, not built: for a cycle longer than one period a stand-in with its
+        The cycle's law is priced, not built (except for lost sales with a lead time, whose chains
+        are priced on it when it is cheap to build): for a cycle longer than one period a stand-in with its
         span and mean prices the searches' sweeps, and each lead-time law (the search's and the chosen
         policy's) is priced as the period's law over the same periods.
         """
         p = self.params
         cycle, lead, gap = p.review_cycle, p.policy_lead_cycles, p.order_quantity or 1
         law = self.demand if cycle == 1 else self._stand_in(cycle)
-        top = gap - 1 + (lead + 1) * law.highest  # the search's default top (no stock-out there) bounds the answer
-        units = wm.order_up_to_work(law, lead, UNMET, gap=gap).units
-        units += wm.PeriodicReview(law, top - gap, top, lead, UNMET).cost().units
+        real = cycle == 1
+        if self._chain_search and not real and wm.law_power_work(self.demand, cycle).units <= BOUND_SEARCH_UNITS:
+            law, real = self._cycle_demand(), True  # cheap to build, and it bounds the chains far better
+        top = gap - 1 + (lead + 1) * law.highest  # no stock-out there: bounds the answer
+        chosen = top  # the chosen level is at most the search's top
+        if self._chain_search:
+            # The bisection's bound is found from the real cycle law's backorder search when that search is
+            # cheap; a stand-in's would not bound the real one, and a costly one is not run to price a chain
+            # that large: the solves are then priced up to ``top`` (and refused).
+            cheap = wm.order_up_to_work(law, lead, "backorder", gap=1, top=top).units <= BOUND_SEARCH_UNITS
+            target = p.target if real and cheap else None
+            _, include = self._search_extent(law, gap)
+            units = wm.order_up_to_work(
+                law, lead, p.unmet, gap=gap, top=top, target=target, measure=p.measure, include=include
+            ).units
+            if gap == 1 and target is not None:
+                # Lost sales meet the target by the backorder answer (walkmath/reviewdesign.py, fact 2): the
+                # chosen level is at most that; the search's own pricing runs the same cheap search.
+                back = wm.smallest_order_up_to(law, target, p.measure, lead, "backorder", gap=1, top=top)
+                chosen = back.answer if back.answer is not None else top
+        else:
+            units = wm.order_up_to_work(law, lead, p.unmet, gap=gap).units
+        units += wm.PeriodicReview(law, chosen - gap, chosen, lead, p.unmet).cost().units
         return units + self._lead_laws(1 if cycle == 1 else 2)
+
+    @property
+    def _chain_search(self) -> bool:
+        """Lost sales with a lead time: each order-up-to level is its own pipeline chain."""
+        return self.params.unmet == "lost" and bool(self.params.policy_lead_cycles)
+
+    def _search_extent(self, law: wm.StepLaw, gap: int) -> tuple[int, tuple[int, ...]]:
+        """The order-up-to search's top (no stock-out there) and the levels it must work out besides its own:
+        the normal rule's (so the page compares with it exactly)."""
+        top = gap - 1 + (self.params.policy_lead_cycles + 1) * law.highest
+        return top, (min(max(self._normal_order_up_to(gap), gap), top),)
+
+    def _normal_order_up_to(self, gap: int) -> int:
+        """The normal rule's order-up-to level (moments only; equal to ``ReorderResult.normal_order_up_to``)."""
+        p = self.params
+        point = wm.normal_reorder_point(
+            self.demand, self.lead_time, p.target, p.measure, p.order_quantity, p.review_period
+        )
+        return point + (gap if gap > 1 else 0)
 
     def _lead_laws(self, count: int) -> int:
         """``count`` lead-time laws over the review cycles, priced on the period's law, and the cycle's law."""
@@ -242,7 +308,7 @@ class ReorderJob:
         cycle = p.review_cycle
         law = self.demand if cycle == 1 else self._stand_in(cycle)
         search = wm.best_policy_work(
-            law, holding=holding * cycle, order_cost=order_cost, lead_time=p.policy_lead_cycles, unmet=UNMET
+            law, holding=holding * cycle, order_cost=order_cost, lead_time=p.policy_lead_cycles, unmet=p.unmet
         )
         return search.units + (self._lead_laws(2) if cycle > 1 else 0)
 
@@ -255,17 +321,25 @@ class ReorderJob:
         """
         parts = [Part("reorder_point", self._plan_work().units)]
         if self.params.policy_lead_cycles is not None:
+            lost = self.params.unmet == "lost"
             for name, price in (("policy", self._policy_units), ("cheapest", self._cheapest_units)):
                 if name == "cheapest" and not self.params.has_costs:
                     continue
-                # Past one of the engine's limits (a level over a million units): left out, with its note.
-                with contextlib.suppress(ValueError):
-                    parts.append(Part(name, price(), required=False))
+                required = lost and name == "policy"  # with lost sales the review policy is the answer
+                try:
+                    parts.append(Part(name, price(), required=required))
+                except ValueError:
+                    # Past one of the engine's limits (its own cap, a level over a million units): an optional
+                    # part is left out with its note; a required one refuses the plan like any too-large one.
+                    if required:
+                        parts.append(Part(name, wm.WORK_CAP + 1, required=True))
         return parts
 
     def refusal(self, units_of_work: int, cap: int) -> str:
         """Why the page is refused, in the analyst's words, naming what to shorten."""
         p = self.params
+        if p.unmet == "lost":
+            return self._lost_refusal(units_of_work, cap)
         top = self.demand.highest * (
             (p.lead_time if p.fixed_lead_time else max(v for v, _ in p.lead_time_table)) + p.review_period
         )
@@ -279,6 +353,27 @@ class ReorderJob:
             f"could reach {units(top, p.unit)} (about {units_of_work / cap:.1f} times this server's limit). "
             f"To fit, {', '.join(advice[:-1])} or {advice[-1]}."
         )
+
+    def _lost_refusal(self, units_of_work: int, cap: int) -> str:
+        p = self.params
+        advice = ["shorten the lead time", "count in larger units (crates rather than loaves)"]
+        if p.order_quantity:
+            advice.append("leave the order quantity out (order back up to the level each count)")
+        advice.append("choose backorders, which are worked out at any size")
+        return (
+            f"This reorder plan is too large to work out in one request: with lost sales every order on its way "
+            f"has to be followed, and with {periods(p.lead_time, p.period)} of lead time and demand of up to "
+            f"{units(self.demand.highest, p.unit)} a {period_name(p.period)} there are too many ways the stock "
+            f"and the orders due can stand ({self._times(units_of_work, cap)} this server's limit). "
+            f"To fit, {', '.join(advice[:-1])} or {advice[-1]}."
+        )
+
+    @staticmethod
+    def _times(units_of_work: int, cap: int) -> str:
+        """'about 4.2 times', or 'more than 17 times' past the engine's own cap (the work was not priced further)."""
+        if units_of_work > wm.WORK_CAP:
+            return f"more than {wm.WORK_CAP / cap:.0f} times"
+        return f"about {units_of_work / cap:.1f} times"
 
     def _span_words(self) -> str:
         p = self.params
@@ -299,6 +394,14 @@ class ReorderJob:
         Cycle service: the chance of a stock-out in an order cycle. Fill rate: the
         share of demand not served from stock. The target stored beside it is 1 - the plan's target.
         """
+        if self.params.unmet == "lost":
+            policy = self._policy()
+            span = (
+                "a review cycle (sales lost)"
+                if self.params.measure == "cycle"
+                else "a review cycle (share of demand lost)"
+            )
+            return float(policy.search.shortfall[policy.index_of(policy.order_up_to)]), span
         plan = self._plan()
         span = (
             "an order cycle"
@@ -345,10 +448,14 @@ class ReorderJob:
         p = self.params
         cycle, lead, gap = p.review_cycle, p.policy_lead_cycles, p.order_quantity or 1
         demand = self._cycle_demand()
-        search = wm.smallest_order_up_to(demand, p.target, p.measure, lead, UNMET, gap=gap)
-        # The default search top allows no stock-out at all, so every target is met by then.
+        if self._chain_search:
+            top, include = self._search_extent(demand, gap)
+            search = wm.smallest_order_up_to(demand, p.target, p.measure, lead, p.unmet, gap, top, include)
+        else:
+            search = wm.smallest_order_up_to(demand, p.target, p.measure, lead, p.unmet, gap=gap)
+        # The search's top allows no stock-out at all, so every target is met by then.
         level = search.answer
-        policy = wm.PeriodicReview(demand, level - gap, level, lead, UNMET)
+        policy = wm.PeriodicReview(demand, level - gap, level, lead, p.unmet)
         cost = cheapest = None
         if p.has_costs:
             holding, order_cost, penalty = p.prices()
@@ -382,7 +489,7 @@ class ReorderJob:
             order_cost=order_cost,
             shortage_penalty=penalty,
             lead_time=p.policy_lead_cycles,
-            unmet=UNMET,
+            unmet=p.unmet,
             target=p.target,
             measure=p.measure,
         )

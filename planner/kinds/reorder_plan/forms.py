@@ -23,7 +23,7 @@ from planner.kinds.reorder_plan.params import (
     MEASURES,
     ReorderPlanParams,
 )
-from planner.kinds.reorder_plan.words import MEASURE_CHOICE
+from planner.kinds.reorder_plan.words import MEASURE_CHOICE, UNMET_CHOICE
 
 COUNT_CHOICES = [
     ("poisson", "Poisson (give the mean)"),
@@ -40,6 +40,7 @@ MESSAGE_FIELDS = [
     ("review period", "review_period"),
     ("lead time table", "lead_time_table"),
     ("service measure", "measure"),
+    ("when the shelf is empty", "unmet"),
     ("service target", "service_target"),
     ("order quantity", "order_quantity"),
     ("holding cost", "holding"),
@@ -248,9 +249,17 @@ class ReorderPlanForm(ScenarioFields, DemandLeadTimeForm):
     shortage_penalty = forms.FloatField(
         label="Shortage penalty (per unit short)", required=False, min_value=0, max_value=MAX_PRICE
     )
+    unmet = forms.ChoiceField(
+        label="When the shelf is empty",
+        choices=list(UNMET_CHOICE.items()),
+        initial="backorder",
+        required=False,
+        widget=forms.RadioSelect,
+        help_text="Lost sales need a fixed lead time that is a whole number of review periods.",
+    )
 
     def target_part(self, data: dict) -> dict | None:
-        names = ["measure", "service_target", "order_quantity", "holding", "order_cost", "shortage_penalty"]
+        names = ["measure", "service_target", "order_quantity", "holding", "order_cost", "shortage_penalty", "unmet"]
         if any(name in self.errors for name in names) or data.get("measure") not in MEASURES:
             return None
         if data.get("service_target") is None:
@@ -266,6 +275,7 @@ class ReorderPlanForm(ScenarioFields, DemandLeadTimeForm):
             "holding": data.get("holding"),
             "order_cost": data.get("order_cost"),
             "shortage_penalty": data.get("shortage_penalty"),
+            "unmet": data.get("unmet") or "backorder",
         }
 
     def clean(self):
@@ -299,6 +309,7 @@ def form_initial(params: ReorderPlanParams) -> dict:
         "holding": params.holding,
         "order_cost": params.order_cost,
         "shortage_penalty": params.shortage_penalty,
+        "unmet": params.unmet,
     }
 
 
@@ -309,6 +320,7 @@ class WhatIfForm(forms.Form):
     lead_time = forms.IntegerField(required=False, min_value=0, max_value=MAX_LEAD_TIME)
     review_period = forms.IntegerField(required=False, min_value=0, max_value=MAX_REVIEW_PERIOD)
     order_quantity = forms.IntegerField(required=False, min_value=1, max_value=MAX_ORDER_QUANTITY)
+    unmet = forms.ChoiceField(required=False, choices=[("", "as saved"), *UNMET_CHOICE.items()])
 
     def changes(self) -> dict:
         """The values given, by parameter; empty ones are left out."""

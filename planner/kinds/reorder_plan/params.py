@@ -9,8 +9,9 @@ any law.
 A plan states the demand in one period (a count law), the lead time (fixed, or
 a table of lead times with their chances), the review period (0: the stock is
 watched all the time; N: it is counted every N periods), the service target
-(cycle service level or fill rate) and, optionally, the order quantity and the
-costs.
+(cycle service level or fill rate), what happens to demand when the shelf is
+empty (``unmet``: backordered, the default of plans saved before it was asked,
+or lost) and, optionally, the order quantity and the costs.
 """
 
 from __future__ import annotations
@@ -24,6 +25,8 @@ from planner.formatting import PERIODS
 from walkmath import checks
 
 MEASURES = ("cycle", "fill")
+# What happens to demand the shelf cannot meet: it waits for the next delivery, or the sale is lost.
+UNMET_RULES = ("backorder", "lost")
 MAX_LEAD_TIME = 365  # periods (a year of days)
 MAX_REVIEW_PERIOD = 365
 MAX_ORDER_QUANTITY = 1_000_000
@@ -58,6 +61,7 @@ class ReorderPlanParams:
     holding: float | None = None
     order_cost: float | None = None
     shortage_penalty: float | None = None
+    unmet: str = "backorder"
 
     def __post_init__(self):
         set_ = object.__setattr__
@@ -75,6 +79,13 @@ class ReorderPlanParams:
                 f"order quantity is needed for a fill-rate target: a whole number from 1 to {MAX_ORDER_QUANTITY:,}"
             )
         self._check_costs()
+        set_(self, "unmet", checks.choice("when the shelf is empty", self.unmet, UNMET_RULES))
+        if self.unmet == "lost" and self.policy_lead_cycles is None:
+            raise ValueError(
+                "when the shelf is empty and the sale is lost, the plan needs a fixed lead time that is a whole "
+                "number of review periods (the stock must be followed order by order): give one, or choose "
+                "backorders"
+            )
 
     def _check_demand(self) -> None:
         if not isinstance(self.demand, CountLaw):
@@ -197,6 +208,8 @@ class ReorderPlanParams:
             data["lead_time"] = self.lead_time
         else:
             data["lead_time_table"] = [list(row) for row in self.lead_time_table]
+        if self.unmet != "backorder":  # plans saved before the choice existed keep their JSON
+            data["unmet"] = self.unmet
         for name in ("order_quantity", "holding", "order_cost", "shortage_penalty"):
             if getattr(self, name) is not None:
                 data[name] = getattr(self, name)

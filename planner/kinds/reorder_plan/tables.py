@@ -61,11 +61,13 @@ def service_rows(result: ReorderResult):
 
 
 def stock_rows(result: ReorderResult):
-    yield [
-        "scenario",
-        f"net stock at each count before ordering [{result.unit}; below 0 = backordered]",
-        "probability [long run]",
-    ]
+    what = (
+        "stock on hand at each count before ordering"
+        if result.params.unmet == "lost"
+        else "net stock at each count before ordering"
+    )
+    note = "demand beyond it is lost" if result.params.unmet == "lost" else "below 0 = backordered"
+    yield ["scenario", f"{what} [{result.unit}; {note}]", "probability [long run]"]
     if result.policy is None:
         return
     stock = result.policy.stock
@@ -84,7 +86,7 @@ def order_up_to_rows(result: ReorderResult):
         "chance of a stock-out in a review cycle [probability]",
         "fill rate [share of demand served from stock]",
         f"mean stock on hand at each count [{unit}]",
-        f"mean demand not served from stock [{unit} per review cycle]",
+        f"mean demand {'lost' if result.params.unmet == 'lost' else 'not served from stock'} [{unit} per review cycle]",
         "orders [per review cycle]",
     ]
     policy = result.policy

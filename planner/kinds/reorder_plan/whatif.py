@@ -24,7 +24,7 @@ def apply_changes(params: ReorderPlanParams, changes: Mapping) -> ReorderPlanPar
         values["demand"] = params.demand.with_mean(changes["demand_mean"])
     if changes.get("lead_time") is not None and params.fixed_lead_time:
         values["lead_time"] = changes["lead_time"]
-    for name in ("review_period", "order_quantity"):
+    for name in ("review_period", "order_quantity", "unmet"):
         if changes.get(name) is not None:
             values[name] = changes[name]
     return params.replace(**values)
@@ -47,7 +47,13 @@ def describe_changes(saved: ReorderPlanParams, variant: ReorderPlanParams) -> li
         lines.append(
             f"order quantity {_quantity(saved.order_quantity, unit)} → {_quantity(variant.order_quantity, unit)}"
         )
+    if variant.unmet != saved.unmet:
+        lines.append(f"when the shelf is empty: {_unmet(saved.unmet)} → {_unmet(variant.unmet)}")
     return lines
+
+
+def _unmet(rule: str) -> str:
+    return "customers wait" if rule == "backorder" else "the sale is lost"
 
 
 def _review(value: int, period: str) -> str:

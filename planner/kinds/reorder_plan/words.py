@@ -14,6 +14,16 @@ MEASURE_CHOICE = {
     "fill": "Fill rate: the share of demand served straight from stock",
 }
 MEASURE_LABEL = {"cycle": "cycle service level", "fill": "fill rate"}
+# What happens to demand the shelf cannot meet: form choices and the page's short phrase.
+UNMET_CHOICE = {
+    "backorder": "Customers wait: the demand is backordered and served from the next delivery",
+    "lost": "The sale is lost: customers go elsewhere (lost sales)",
+}
+UNMET_WORDS = {"backorder": "unmet demand waits for the next delivery", "lost": "unmet demand is lost"}
+
+
+def unmet_words(params) -> str:
+    return UNMET_WORDS[params.unmet]
 
 
 def measure_label(measure: str) -> str:
@@ -84,7 +94,7 @@ def recommendation(result) -> str:
     for the counts, beside the normal rule's level for the same order size (the common-practice formula).
     """
     p = result.params
-    if p.review_period and result.policy is not None:
+    if (p.review_period or p.unmet == "lost") and result.policy is not None:
         return _counted_recommendation(result)
     plan, unit = result.plan, p.unit
     if p.review_period:
@@ -104,11 +114,16 @@ def recommendation(result) -> str:
 def _counted_recommendation(result) -> str:
     p, policy, unit = result.params, result.policy, result.params.unit
     target = p.target
+    moment = f"at each count ({policy_rhythm(p)})" if p.review_period else f"each {period_name(p.period)}"
+    if p.unmet == "lost":
+        moment = f"With sales lost when the shelf is empty, {moment}"
+    else:
+        moment = moment[0].upper() + moment[1:]
     if policy.gap == 1:
-        start = f"At each count ({policy_rhythm(p)}), order the stock back up to {units(policy.order_up_to, unit)}"
+        start = f"{moment}, order the stock back up to {units(policy.order_up_to, unit)}"
     else:
         start = (
-            f"At each count ({policy_rhythm(p)}), if the stock on hand plus on order is at or below "
+            f"{moment}, if the stock on hand plus on order is at or below "
             f"{units(policy.reorder_level, unit)}, order it up to {units(policy.order_up_to, unit)}"
         )
     goal = "fill rate" if p.measure == "fill" else f"target of {policy_service_label(p)}"
