@@ -1,8 +1,14 @@
-"""Shared fixtures: a fast password hasher and a named cast of users."""
+"""Shared fixtures: a fast password hasher and a named cast of users; hypothesis without deadlines."""
 
 import pytest
+from hypothesis import settings as hypothesis_settings
 
 from planner.kinds.stock_plan.params import StockPlanParams
+
+# No per-example deadline: a deadline is a timing assertion, and on a busy machine a quick example can
+# take longer than 200 ms (speed lives in the benchmarks).
+hypothesis_settings.register_profile("no_deadline", deadline=None)
+hypothesis_settings.load_profile("no_deadline")
 
 PASSWORD = "crust-and-crumb-42"
 
