@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import importlib
 import pkgutil
-from collections.abc import Iterator, Mapping
+from collections.abc import Callable, Iterator, Mapping
 from dataclasses import dataclass
 from typing import Any
 
@@ -54,7 +54,9 @@ class Kind:
     """What a scenario kind provides to the shared plumbing; subclass it in the kind's package.
 
     Parameters are a plain frozen object with ``to_json``; results are whatever
-    the kind's charts, tables and templates read.
+    the kind's charts, tables and templates read. A kind answers most calls with its own
+    package's functions and classes named as class attributes (``prepare = staticmethod(Job)``),
+    and writes methods only where it adds something.
     """
 
     key: str = ""  # the ScenarioKind value stored on the model
@@ -65,6 +67,7 @@ class Kind:
     caution_template: str = "planner/_cautions.html"  # the cautions above the results
     preview_waiting: str = "Fill in the inputs to see the preview here."  # the preview's hint while inputs are missing
     tables: Mapping[str, str] = {}  # CSV slug -> what the table holds
+    table_builders: Mapping[str, Callable] = {}  # CSV slug -> function(result): header row then data rows
     check_template: str = ""  # the cross-check panel's table ("" when the kind has no cross-check)
     check_tables: Mapping[str, str] = {}  # CSV slug -> what the cross-check's table holds
 
@@ -120,7 +123,7 @@ class Kind:
 
     def table_rows(self, result, table: str) -> Iterator[list]:
         """Header row then data rows of one CSV table (plain machine numbers)."""
-        raise NotImplementedError
+        return self.table_builders[table](result)
 
     def sample_changes(self, params) -> list[dict]:
         """A few what-if queries near the saved plan, for the benchmarks and the load test (none by default)."""

@@ -19,7 +19,7 @@ from planner.kinds.rate_table import charts
 from planner.kinds.rate_table.compute import RateTableJob
 from planner.kinds.rate_table.forms import RateTableForm, TableFields, WhatIfForm, form_initial
 from planner.kinds.rate_table.params import RateTableParams
-from planner.kinds.rate_table.tables import TABLES, rows
+from planner.kinds.rate_table.tables import ROWS, TABLES
 from planner.kinds.rate_table.whatif import apply_changes, describe_changes
 from planner.pool_words import share
 from walkmath.pools import LONG_RUN_FIXED, LONG_RUN_UNITS
@@ -37,6 +37,7 @@ class RateTableKind(Kind):
     caution_template = "planner/kinds/rate_table/cautions.html"
     preview_waiting = "Fill in the table and the shortage level to see how many units are typically failed."
     tables = TABLES
+    table_builders = ROWS
 
     # The shared plumbing's calls, answered by this package's own functions and classes.
     params_from_json = staticmethod(RateTableParams.from_json)
@@ -47,7 +48,6 @@ class RateTableKind(Kind):
     describe_changes = staticmethod(describe_changes)
     prepare = staticmethod(RateTableJob)
     figures = staticmethod(charts.charts_for)
-    table_rows = staticmethod(rows)
     preview_form = staticmethod(TableFields)
 
     def sample_changes(self, params) -> list[dict]:

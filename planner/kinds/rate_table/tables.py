@@ -55,8 +55,3 @@ ROWS = {
     "by-repair-speed": speed_rows,
     "risk-by-failed-at-start": pool_tables.by_start_rows,
 }
-
-
-def rows(result: RateTableResult, table: str):
-    """Header row then data rows of the table ``table`` (one of ``TABLES``)."""
-    return ROWS[table](result)

@@ -27,34 +27,21 @@ class ReorderPlan(Kind):
     form_template = "planner/kinds/reorder_plan/form_fields.html"
     headline_template = "planner/kinds/reorder_plan/headline.html"
     whatif_template = "planner/kinds/reorder_plan/whatif.html"
+    table_builders = tables.ROWS  # before ``tables`` below takes the module's name in this class
     tables = tables.TABLES
 
-    def params_from_json(self, data):
-        return ReorderPlanParams.from_json(data)
-
-    def scenario_form(self, data=None, *, initial=None):
-        return ReorderPlanForm(data, initial=initial)
-
-    def form_initial(self, params):
-        return form_initial(params)
-
-    def changes_form(self, data):
-        return WhatIfForm(data)
-
-    def apply_changes(self, params, changes):
-        return apply_changes(params, changes)
-
-    def describe_changes(self, saved, variant):
-        return describe_changes(saved, variant)
-
-    def prepare(self, params, stockout_target, overflow_target):
-        return ReorderJob(params, stockout_target, overflow_target)
-
-    def figures(self, result):
-        return charts.charts_for(result)
-
-    def table_rows(self, result, table):
-        return tables.ROWS[table](result)
+    # The shared plumbing's calls, answered by this package's own functions and classes.
+    params_from_json = staticmethod(ReorderPlanParams.from_json)
+    scenario_form = staticmethod(ReorderPlanForm)
+    form_initial = staticmethod(form_initial)
+    changes_form = staticmethod(WhatIfForm)
+    apply_changes = staticmethod(apply_changes)
+    describe_changes = staticmethod(describe_changes)
+    prepare = staticmethod(ReorderJob)
+    figures = staticmethod(charts.charts_for)
+    params_from_fit = staticmethod(from_fit.params_from_fit)
+    fit_note = staticmethod(from_fit.fit_note)
+    preview_form = staticmethod(DemandLeadTimeForm)
 
     def sample_changes(self, params) -> list[dict]:
         """Lead time one shorter, as saved and one longer (the review period instead for a lead-time table)."""
@@ -64,15 +51,6 @@ class ReorderPlan(Kind):
             return [{"lead_time": value} for value in values]
         values = sorted({max(0, params.review_period - 1), params.review_period, params.review_period + 1})
         return [{"review_period": value} for value in values]
-
-    def params_from_fit(self, fitted, *, start, high, horizon):
-        return from_fit.params_from_fit(fitted, start=start, high=high, horizon=horizon)
-
-    def fit_note(self, fitted) -> str:
-        return from_fit.fit_note(fitted)
-
-    def preview_form(self, data):
-        return DemandLeadTimeForm(data)
 
     def preview_parts(self, form) -> list[Part]:
         """The preview builds the demand over the lead time (plus the review period): priced as the engine does."""

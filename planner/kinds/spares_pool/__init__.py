@@ -33,47 +33,25 @@ class SparesPoolKind(Kind):
     whatif_template = "planner/kinds/spares_pool/whatif.html"
     caution_template = "planner/kinds/spares_pool/cautions.html"
     preview_waiting = "Fill in the units, spares, failures and repairs to see how many are typically failed."
+    table_builders = tables.ROWS  # before ``tables`` below takes the module's name in this class
     tables = tables.TABLES
 
-    def params_from_json(self, data):
-        return SparesPoolParams.from_json(data)
-
-    def scenario_form(self, data=None, *, initial=None):
-        return SparesPoolForm(data, initial=initial)
-
-    def form_initial(self, params):
-        return form_initial(params)
-
-    def changes_form(self, data):
-        return WhatIfForm(data)
-
-    def apply_changes(self, params, changes):
-        return apply_changes(params, changes)
-
-    def describe_changes(self, saved, variant):
-        return describe_changes(saved, variant)
-
-    def prepare(self, params, stockout_target, overflow_target):
-        return SparesJob(params, stockout_target, overflow_target)
-
-    def figures(self, result):
-        return charts.charts_for(result)
-
-    def table_rows(self, result, table):
-        return tables.ROWS[table](result)
+    # The shared plumbing's calls, answered by this package's own functions and classes.
+    params_from_json = staticmethod(SparesPoolParams.from_json)
+    scenario_form = staticmethod(SparesPoolForm)
+    form_initial = staticmethod(form_initial)
+    changes_form = staticmethod(WhatIfForm)
+    apply_changes = staticmethod(apply_changes)
+    describe_changes = staticmethod(describe_changes)
+    prepare = staticmethod(SparesJob)
+    figures = staticmethod(charts.charts_for)
+    params_from_fit = staticmethod(from_fit.params_from_fit)
+    fit_note = staticmethod(from_fit.fit_note)
+    preview_form = staticmethod(PoolFields)
 
     def sample_changes(self, params) -> list[dict]:
         """One spare fewer, as saved and one more, for the benchmarks and the load test."""
         return [{"spares": value} for value in sorted({max(0, params.spares - 1), params.spares, params.spares + 1})]
-
-    def params_from_fit(self, fitted, *, start, high, horizon):
-        return from_fit.params_from_fit(fitted, start=start, high=high, horizon=horizon)
-
-    def fit_note(self, fitted) -> str:
-        return from_fit.fit_note(fitted)
-
-    def preview_form(self, data):
-        return PoolFields(data)
 
     def preview_parts(self, form) -> list[Part]:
         """The preview is the long-run law of the number failed: priced as the pool's long-run figures."""

@@ -28,63 +28,37 @@ class StockPlan(Kind):
     form_template = "planner/kinds/stock_plan/form_fields.html"
     headline_template = "planner/kinds/stock_plan/headline.html"
     whatif_template = "planner/kinds/stock_plan/whatif.html"
+    table_builders = tables.ROWS  # before ``tables`` below takes the module's name in this class
     tables = tables.TABLES
     check_template = "planner/kinds/stock_plan/cross_check.html"
     check_tables = {"cross-check": "cross-check: exact, normal approximation and simulation"}
 
-    def params_from_json(self, data):
-        return StockPlanParams.from_json(data)
-
-    def scenario_form(self, data=None, *, initial=None):
-        return StockPlanForm(data, initial=initial)
-
-    def form_initial(self, params):
-        return form_initial(params)
-
-    def changes_form(self, data):
-        return WhatIfForm(data)
-
-    def apply_changes(self, params, changes):
-        return apply_changes(params, changes)
-
-    def describe_changes(self, saved, variant):
-        return describe_changes(saved, variant)
-
-    def prepare(self, params, stockout_target, overflow_target):
-        return StockJob(params, stockout_target, overflow_target)
+    # The shared plumbing's calls, answered by this package's own functions and classes.
+    params_from_json = staticmethod(StockPlanParams.from_json)
+    scenario_form = staticmethod(StockPlanForm)
+    form_initial = staticmethod(form_initial)
+    changes_form = staticmethod(WhatIfForm)
+    apply_changes = staticmethod(apply_changes)
+    describe_changes = staticmethod(describe_changes)
+    prepare = staticmethod(StockJob)
+    figures = staticmethod(charts.charts_for)
+    params_from_fit = staticmethod(from_fit.params_from_fit)
+    fit_note = staticmethod(from_fit.fit_note)
+    preview_form = staticmethod(ChangeLawForm)
+    comparable = staticmethod(comparison.comparable)
+    check_figure = staticmethod(crosscheck.chart)
 
     def cross_check(self, params, stockout_target, overflow_target):
         return crosscheck.CrossCheckJob(params, stockout_target)
 
-    def check_figure(self, check):
-        return crosscheck.chart(check)
-
     def check_rows(self, check, table):
         return crosscheck.csv_rows(check)
-
-    def figures(self, result):
-        return charts.charts_for(result)
-
-    def table_rows(self, result, table):
-        return tables.ROWS[table](result)
 
     def sample_changes(self, params) -> list[dict]:
         """Start one lower, as saved and one higher, kept inside the floor and capacity (the horizon as saved)."""
         top = params.high if params.high is not None else params.start + 1
         starts = sorted({max(params.low, params.start - 1), params.start, min(top, params.start + 1)})
         return [{"start": start, "horizon": params.horizon} for start in starts]
-
-    def params_from_fit(self, fitted, *, start, high, horizon):
-        return from_fit.params_from_fit(fitted, start=start, high=high, horizon=horizon)
-
-    def fit_note(self, fitted) -> str:
-        return from_fit.fit_note(fitted)
-
-    def comparable(self, result):
-        return comparison.comparable(result)
-
-    def preview_form(self, data):
-        return ChangeLawForm(data)
 
     def preview_parts(self, form) -> list[Part]:
         """The preview builds one law: priced as supply width x demand width (one convolution)."""
