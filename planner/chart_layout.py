@@ -117,7 +117,7 @@ def layout(
 def line(
     x, y, name: str, color: str, *, width: float = 2.5, dash: str | None = None, markers: bool = False, hover=None
 ) -> dict:
-    """A line trace; ``hover`` (e.g. ``formatting.probability``) writes each hover value with our formatter."""
+    """A line trace; ``hover`` (e.g. ``formatting.probabilities``) writes the hover values with our formatter."""
     trace = {
         "type": "scatter",
         "x": as_list(x),
@@ -131,7 +131,7 @@ def line(
     if markers:
         trace["marker"] = {"size": 5}
     if hover is not None:
-        trace["customdata"] = [hover(value) for value in trace["y"]]
+        trace["customdata"] = hover(trace["y"])
         trace["hovertemplate"] = f"{name}: %{{customdata}}<extra></extra>"
     return trace
 

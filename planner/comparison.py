@@ -11,7 +11,7 @@ from dataclasses import dataclass
 
 from planner import reading
 from planner.chart_layout import STOCKOUT, layout, line, log_range
-from planner.formatting import period_name, probability
+from planner.formatting import period_name, probabilities
 from planner.kinds import Comparable, get_kind
 
 MIN_PLANS, MAX_PLANS = 2, 4
@@ -51,7 +51,7 @@ def figure(compared: list[Compared]) -> dict:
     periods = {entry.comparable.period for entry in shown}
     x_title = period_name(periods.pop(), 2) if len(periods) == 1 else "periods (each plan's own)"
     data = [
-        line(entry.comparable.x, entry.comparable.y, label(entry), COLOURS[i % len(COLOURS)], hover=probability)
+        line(entry.comparable.x, entry.comparable.y, label(entry), COLOURS[i % len(COLOURS)], hover=probabilities)
         for i, entry in enumerate(shown)
     ]
     y_range = log_range(*[entry.comparable.y for entry in shown]) if shown else None

@@ -6,7 +6,10 @@ alternatives. CSV files never use it: they keep plain machine numbers.
 
 from __future__ import annotations
 
+import functools
 import math
+
+import numpy as np
 
 SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
 # Below this a probability is written as a power of ten (0.1 %).
@@ -46,6 +49,41 @@ def probability(value, digits: int = 3) -> str:
     return scientific(value, digits)
 
 
+def probabilities(values, digits: int = 3) -> list[str]:
+    """``probability`` of each value (the same strings), faster on long chart series.
+
+    The classes (0, 100 %, near certain, percent, power of ten) are found for the whole array at
+    once; each string is then one format. Only values within 1 % of the percent floor are rounded
+    to ``digits`` significant digits first, as ``probability`` decides on the rounded value.
+    """
+    array = np.asarray(values, dtype=float).ravel()
+    near_certain = 1 - 5 * 10.0 ** -(digits + 1)
+    percent = array >= PERCENT_FLOOR * 1.01
+    close = np.flatnonzero((array > PERCENT_FLOOR * 0.99) & ~percent)
+    percent[close] = [float(f"{value:.{digits - 1}e}") >= PERCENT_FLOOR for value in array[close].tolist()]
+    percent_text, mantissa_text = f"{{:.{digits}g}} %", f"{{:.{digits - 1}e}}"
+    certain_text = f"> 99.{'9' * (digits - 2)} %"
+    out = []
+    for value, is_percent in zip(array.tolist(), percent.tolist(), strict=True):
+        if value == 0:
+            out.append("0 %")
+        elif value >= 1:
+            out.append("100 %")
+        elif value > near_certain:
+            out.append(certain_text)
+        elif is_percent:
+            out.append(percent_text.format(100 * value))
+        else:
+            mantissa, exponent = mantissa_text.format(value).split("e")
+            out.append(f"{float(mantissa):g} × 10{_power(int(exponent))}")
+    return out
+
+
+@functools.lru_cache(maxsize=1024)
+def _power(exponent: int) -> str:
+    return str(exponent).translate(SUPERSCRIPT)
+
+
 def number(value, digits: int = 3) -> str:
     """Plain count or amount: 1100.4 -> '1,100', 3.4567 -> '3.46', 2.5e-5 -> '2.5 × 10⁻⁵', 1e13 -> '1 × 10¹³'."""
     if value is None:
@@ -63,6 +101,11 @@ def number(value, digits: int = 3) -> str:
         return f"{rounded:,.0f}"
     decimals = digits - 1 - math.floor(math.log10(abs(rounded)))
     return f"{rounded:.{decimals}f}".rstrip("0").rstrip(".")
+
+
+def numbers(values, digits: int = 3) -> list[str]:
+    """``number`` of each value."""
+    return [number(value, digits) for value in np.asarray(values, dtype=float).ravel().tolist()]
 
 
 def units(value, unit: str = "units") -> str:

@@ -21,7 +21,7 @@ from planner.chart_layout import (
     log_range,
     target_line,
 )
-from planner.formatting import probability
+from planner.formatting import probabilities, probability
 from planner.pool_words import count
 
 HEATMAP_FLOOR = 1e-9  # numbers failed never reaching this probability are trimmed from the heat map
@@ -43,8 +43,8 @@ def mission_chart(result) -> dict:
     times, mission, law, target = result.times, result.mission, result.failed_law, result.risk_target
     fig = {
         "data": [
-            line(times, mission.reached, "at least one shortage by then", STOCKOUT, hover=probability),
-            line(times, law.shortage, "short at that time", OVERFLOW, width=2, dash="dash", hover=probability),
+            line(times, mission.reached, "at least one shortage by then", STOCKOUT, hover=probabilities),
+            line(times, law.shortage, "short at that time", OVERFLOW, width=2, dash="dash", hover=probabilities),
             target_line(times, target, "mission target"),
         ],
         "layout": layout(
@@ -110,7 +110,7 @@ def start_chart(result) -> dict:
         )
     failed, risk = by_start["failed"], by_start["risk"]
     fig["data"].append(
-        line(failed, risk, "shortage during the mission", STOCKOUT, width=2, markers=True, hover=probability)
+        line(failed, risk, "shortage during the mission", STOCKOUT, width=2, markers=True, hover=probabilities)
     )
     fig["data"].append(target_line(failed, risk_target, "mission target"))
     whole_numbers(fig, failed)

@@ -9,7 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from planner.chart_layout import GRID, INK, NORMAL, OVERFLOW, STOCKOUT, TARGET, as_list, layout, line, log_range
-from planner.formatting import number, period_name, probability
+from planner.formatting import number, period_name, probabilities, probability
 from planner.history.fit import CREDIBLE, HistoryFit, RangeResult, SideFit
 from planner.history_file import History
 from walkmath.profile import WEEKDAYS
@@ -152,7 +152,7 @@ def risk_chart(result: RangeResult, period: str) -> dict:
             curves += [low, high]
             data.append(_edge(x, low, f"{label}, {share} credible range (low)", colour, fill=False))
             data.append(_edge(x, high, f"{label}, {share} credible range", colour, fill=True))
-        data.append(line(x, curve, f"{label}, fitted laws", colour, hover=probability))
+        data.append(line(x, curve, f"{label}, fitted laws", colour, hover=probabilities))
     fig = {
         "data": data,
         "layout": layout(
@@ -181,7 +181,7 @@ def risk_chart(result: RangeResult, period: str) -> dict:
 
 def _edge(x, y, name: str, colour: str, *, fill: bool) -> dict:
     """One edge of a credible range; the upper edge fills down to the lower one drawn just before it."""
-    trace = line(x, y, name, colour, width=0.5, hover=probability)
+    trace = line(x, y, name, colour, width=0.5, hover=probabilities)
     trace["line"]["dash"] = "dot"
     if fill:
         trace["fill"] = "tonexty"

@@ -98,3 +98,18 @@ def test_probability_with_more_digits_tells_close_values_apart():
     assert probability(0.99991) == "> 99.9 %" and probability(0.99991, 5) == "99.991 %"
     assert probability(0.999999, 5) == "> 99.999 %"
     assert probability(2.5e-7, 4) == "2.5 × 10⁻⁷"
+
+
+def test_probabilities_write_each_value_as_probability_does():
+    # The whole-array formatter against the one-value formatter (the reference), across every class:
+    # zero, 100 %, near certain, percent, the percent floor's rounding edge and powers of ten to 5e-324.
+    import numpy as np
+
+    from planner.formatting import probabilities, probability
+
+    rng = np.random.default_rng(7)
+    edges = [0.0, 1.0, 1.5, 0.9999, 0.99995, 0.999949999, 0.00099949, 0.0009995, 0.001, 0.00101, 0.00099, 5e-324]
+    values = np.concatenate([10 ** rng.uniform(-320, 0, 2000), rng.uniform(0, 1, 2000), edges])
+    for digits in (3, 5):
+        assert probabilities(values, digits) == [probability(value, digits) for value in values.tolist()]
+    assert probabilities([]) == []

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from planner import pool_charts
 from planner.chart_layout import INK, OVERFLOW, STOCKOUT, add_vline, as_list, layout, line, log_range, target_line
-from planner.formatting import number, probability
+from planner.formatting import number, probabilities, probability
 from planner.kinds.rate_table.compute import RateTableResult
 from planner.pool_charts import chart, whole_numbers
 from planner.pool_words import share
@@ -29,7 +29,7 @@ def long_run_chart(result: RateTableResult) -> dict:
         "y": as_list(law),
         "name": "share of time",
         "marker": {"color": [STOCKOUT if flag else OVERFLOW for flag in short.tolist()]},
-        "customdata": [probability(value) for value in law.tolist()],
+        "customdata": probabilities(law),
         "hovertemplate": "%{x} failed: %{customdata}<extra></extra>",
     }
     fig = {
@@ -75,7 +75,7 @@ def speed_chart(result: RateTableResult) -> dict:
     if curve is None:
         return chart(fig, "The risk by repair speed was too much work for one request.", "by-repair-speed")
     speeds = curve.speeds
-    style = {"width": 2, "markers": True, "hover": probability}
+    style = {"width": 2, "markers": True, "hover": probabilities}
     fig["data"] += [
         line(speeds, curve.unavailability, "long-run unavailability", OVERFLOW, **style),
         line(speeds, curve.risk, "shortage during the mission", STOCKOUT, **style),

@@ -22,7 +22,7 @@ from planner.chart_layout import (
     log_range,
     target_line,
 )
-from planner.formatting import number, period_name, probability, units
+from planner.formatting import number, numbers, period_name, probabilities, probability, units
 from planner.kinds.reorder_plan.compute import ReorderResult
 from planner.kinds.reorder_plan.words import gap_words, measure_label, policy_rhythm, policy_service_label
 
@@ -65,7 +65,7 @@ def _bars(x, y, name: str, color) -> dict:
         "y": as_list(y),
         "name": name,
         "marker": {"color": color, "opacity": 0.85},
-        "customdata": [probability(v) for v in np.asarray(y).tolist()],
+        "customdata": probabilities(y),
         "hovertemplate": "%{x}: %{customdata}<extra></extra>",
     }
 
@@ -107,9 +107,9 @@ def service_chart(result: ReorderResult) -> dict:
     marks = (plan.reorder_point, plan.normal_reorder_point)
     shown = _decision_range(plan.service, plan.shortfall, plan.target, marks, int(plan.points[0]))
     x = plan.points[shown]
-    exact = line(x, plan.service[shown], f"{label}, exact", OVERFLOW, markers=True, hover=probability)
+    exact = line(x, plan.service[shown], f"{label}, exact", OVERFLOW, markers=True, hover=probabilities)
     claimed = line(
-        x, plan.normal_service[shown], "what the normal model claims", NORMAL, width=2, dash="dash", hover=probability
+        x, plan.normal_service[shown], "what the normal model claims", NORMAL, width=2, dash="dash", hover=probabilities
     )
     fig = {
         "data": [exact, claimed, target_line(x, plan.target, f"target {probability(plan.target)}")],
@@ -212,7 +212,7 @@ def order_up_to_chart(result: ReorderResult) -> dict:
     x = search.levels[inside]
     fig = {
         "data": [
-            line(x, search.service[inside], label, OVERFLOW, markers=not policy.every_level, hover=probability),
+            line(x, search.service[inside], label, OVERFLOW, markers=not policy.every_level, hover=probabilities),
             target_line(x, p.target, f"target {probability(p.target)}"),
         ],
         "layout": layout(
@@ -223,7 +223,7 @@ def order_up_to_chart(result: ReorderResult) -> dict:
     }
     if p.measure == "cycle":
         fig["data"].insert(
-            1, line(x, search.fill_rate[inside], "fill rate", INK, width=2, dash="dot", hover=probability)
+            1, line(x, search.fill_rate[inside], "fill rate", INK, width=2, dash="dot", hover=probabilities)
         )
     fig["layout"]["yaxis"]["tickformat"] = ".0%"
     add_vline(fig, policy.order_up_to, f"smallest: {number(policy.order_up_to)}", INK)
@@ -235,7 +235,7 @@ def order_up_to_chart(result: ReorderResult) -> dict:
         f"order-up-to level meeting the {probability(p.target)} target ({label}) is {units(policy.order_up_to, unit)}"
     )
     if policy.cost is not None:
-        cost = line(x, policy.cost[inside], f"cost per {period_name(p.period)}", TARGET, width=2, hover=number)
+        cost = line(x, policy.cost[inside], f"cost per {period_name(p.period)}", TARGET, width=2, hover=numbers)
         cost["yaxis"] = "y2"
         fig["data"].append(cost)
         fig["layout"]["yaxis2"] = {

@@ -18,7 +18,7 @@ from planner.chart_layout import (
     log_range,
     target_line,
 )
-from planner.formatting import probability
+from planner.formatting import probabilities, probability
 from planner.kinds.spares_pool.compute import SparesResult
 from planner.pool_charts import chart, whole_numbers
 from planner.pool_words import count, share
@@ -55,7 +55,7 @@ def availability_chart(result: SparesResult) -> dict:
                 width=2.5 if shift == 0 else 1.8,
                 dash=CREW_DASH[shift],
                 markers=True,
-                hover=probability,
+                hover=probabilities,
             )
         )
     own = curves[params.crews]
@@ -102,7 +102,7 @@ def spares_risk_chart(result: SparesResult) -> dict:
             STOCKOUT,
             width=2,
             markers=True,
-            hover=probability,
+            hover=probabilities,
         )
     )
     fig["data"].append(target_line(curve.counts, result.risk_target, "mission target"))
@@ -138,7 +138,7 @@ def crews_chart(result: SparesResult) -> dict:
                 OVERFLOW,
                 width=2,
                 markers=True,
-                hover=probability,
+                hover=probabilities,
             )
         ],
         "layout": layout(
@@ -159,7 +159,7 @@ def crews_chart(result: SparesResult) -> dict:
                 STOCKOUT,
                 width=2,
                 markers=True,
-                hover=probability,
+                hover=probabilities,
             )
         )
     fig["data"].append(target_line(long_run.counts, target, "availability target", dash="dot"))

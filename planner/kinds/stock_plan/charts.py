@@ -24,7 +24,7 @@ from planner.chart_layout import (
     rounded,
     target_line,
 )
-from planner.formatting import period_name, probability, units
+from planner.formatting import period_name, probabilities, probability, units
 from planner.kinds.stock_plan.compute import StockResult
 
 MAX_HEATMAP_CELLS = 12_000  # beyond this the heat map shows every k-th period (a chart, not the table: CSV has all)
@@ -87,7 +87,7 @@ def risk_chart(result: StockResult) -> dict:
     y_range = log_range(result.outlook.stockout, result.outlook.overflow, [result.stockout_target])
     fig = {
         "data": [
-            line(x, result.outlook.stockout, "stock-out", STOCKOUT, hover=probability),
+            line(x, result.outlook.stockout, "stock-out", STOCKOUT, hover=probabilities),
             target_line(x, result.stockout_target, "stock-out target"),
         ],
         "layout": layout(
@@ -99,7 +99,7 @@ def risk_chart(result: StockResult) -> dict:
         f"{result.span} (target {probability(result.stockout_target)})"
     )
     if result.params.high is not None:
-        fig["data"].append(line(x, result.outlook.overflow, "overflow", OVERFLOW, hover=probability))
+        fig["data"].append(line(x, result.outlook.overflow, "overflow", OVERFLOW, hover=probabilities))
         fig["data"].append(target_line(x, result.overflow_target, "overflow target", dash="dot"))
         fig["layout"]["title"]["text"] = f"Chance of a stock-out or overflow by each {name}"
         summary += (
@@ -113,7 +113,7 @@ def start_chart(result: StockResult) -> dict:
     """Risk over the horizon for every start stock, the target lines and the current start."""
     risk = result.start_risk
     fig = {
-        "data": [line(risk.starts, risk.stockout, "stock-out", STOCKOUT, width=2, markers=True, hover=probability)],
+        "data": [line(risk.starts, risk.stockout, "stock-out", STOCKOUT, width=2, markers=True, hover=probabilities)],
         "layout": layout(
             f"Risk by start stock over {result.span}",
             "start stock (units)",
@@ -126,7 +126,7 @@ def start_chart(result: StockResult) -> dict:
     bounded = result.params.high is not None
     if bounded:
         fig["data"].append(
-            line(risk.starts, risk.overflow, "overflow", OVERFLOW, width=2, markers=True, hover=probability)
+            line(risk.starts, risk.overflow, "overflow", OVERFLOW, width=2, markers=True, hover=probabilities)
         )
     if risk.starts.size:
         fig["data"].append(target_line(risk.starts, result.stockout_target, "stock-out target"))

@@ -19,7 +19,7 @@ import walkmath as wm
 from planner import formatting
 from planner.chart_layout import NORMAL, OVERFLOW, STOCKOUT, layout, line, log_range, target_line
 from planner.csv_writer import number
-from planner.formatting import period_name, periods, probability
+from planner.formatting import period_name, periods, probabilities, probability
 from planner.kinds import Part
 from planner.kinds.stock_plan.params import StockPlanParams
 from walkmath.compare import monte_carlo_work
@@ -189,13 +189,13 @@ def chart(check: CrossCheck) -> dict:
         "hovertemplate": "simulation: %{y:.3g} (%{customdata})<extra></extra>",
     }
     data = [
-        line(x, check.exact.stockout, "exact", STOCKOUT, hover=probability),
-        line(x, check.normal, "normal approximation", NORMAL, width=2, dash="dash", hover=probability),
+        line(x, check.exact.stockout, "exact", STOCKOUT, hover=probabilities),
+        line(x, check.normal, "normal approximation", NORMAL, width=2, dash="dash", hover=probabilities),
         simulated,
         target_line(x, check.stockout_target, "stock-out target"),
     ]
     if check.bounded:
-        data.insert(1, line(x, check.exact.overflow, "overflow, exact", OVERFLOW, width=1.5, hover=probability))
+        data.insert(1, line(x, check.exact.overflow, "overflow, exact", OVERFLOW, width=1.5, hover=probabilities))
     figure = {
         "data": data,
         "layout": layout(
