@@ -14,6 +14,7 @@
 
 from __future__ import annotations
 
+import copy
 import math
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
@@ -92,11 +93,41 @@ def smallest_capacity(
     overflow_target = checks.probability("overflow_target", overflow_target)
     if stockout_target is not None:
         stockout_target = checks.probability("stockout_target", stockout_target)
+    search = capacity_search(walk, horizon, overflow_target, stockout_target, cap=cap)
+    request = next(search)
+    while True:
+        capacity, stockout, overflow = request
+        try:
+            request = search.send(risk_at_capacity(walk, horizon, capacity, stockout=stockout, overflow=overflow))
+        except StopIteration as done:
+            return done.value
+
+
+def capacity_search(
+    walk: BandedWalk,
+    horizon: int,
+    overflow_target: float,
+    stockout_target: float | None,
+    *,
+    cap: int = WORK_CAP,
+    own_overflow: np.ndarray | None = None,
+):
+    """The search of ``smallest_capacity`` as a generator, for checked arguments.
+
+    It yields ``(capacity, stockout, overflow)``: a probe at ``capacity`` and which of the two risks
+    it needs from the walk's start; it is sent back ``(stockout risk, overflow risk)`` (a risk not
+    needed may be anything) and returns the answer. The caller chooses how to compute each probe:
+    ``smallest_capacity`` runs one exact sweep from the start per probe, ``walkmath.portfolio_engine``
+    reads the probes of many items off shared backward sweeps. The
+    work counted against ``cap`` is the same either way (the probes' priced work), so both stop at
+    the same probe with the same message. ``own_overflow`` is the overflow risk by start at the
+    walk's own capacity (low..high), if the caller has it; otherwise the guess computes it.
+    """
     both = stockout_target is not None and walk.above == "spill"
     reach = walk.start + horizon * walk.max_up  # beyond it no overflow can happen within the horizon
     spent = 0
 
-    def meets(capacity: int) -> bool:
+    def meets(capacity: int):
         nonlocal spent
         spent += _probe_work(walk, horizon, capacity).units * (1 + both)
         if spent > cap:
@@ -104,15 +135,15 @@ def smallest_capacity(
                 f"the capacity search reached {capacity:,} without settling within the limit of {cap:.3g} "
                 "units of work; shorten the horizon or coarsen the units"
             )
-        stockout, overflow = risk_at_capacity(walk, horizon, capacity, stockout=both)
+        stockout, overflow = yield capacity, both, True
         return overflow <= overflow_target and (not both or stockout <= stockout_target)
 
-    guess = _guess(walk, horizon, overflow_target, reach)
-    if meets(guess):  # gallop down to a capacity that fails, then bisect
+    guess = _guess(walk, horizon, overflow_target, reach, own_overflow)
+    if (yield from meets(guess)):  # gallop down to a capacity that fails, then bisect
         lowest, highest, step = guess, guess, 1
         while lowest > walk.start:
             probe = max(guess - step, walk.start)
-            if not meets(probe):
+            if not (yield from meets(probe)):
                 lowest = probe + 1
                 break
             highest = lowest = probe
@@ -122,30 +153,35 @@ def smallest_capacity(
             return None
         lowest, step = guess + 1, 1
         highest = min(guess + step, reach)
-        while not meets(highest):
+        while not (yield from meets(highest)):
             if highest == reach:
                 return None
             lowest, step = highest + 1, 2 * step
             highest = min(guess + step, reach)
     while lowest < highest:
         middle = (lowest + highest) // 2
-        if meets(middle):
+        if (yield from meets(middle)):
             highest = middle
         else:
             lowest = middle + 1
     stop_fails = stockout_target is not None and walk.above == "stop"
-    if stop_fails and risk_at_capacity(walk, horizon, lowest, overflow=False)[0] > stockout_target:
-        return None
+    if stop_fails:
+        stockout, _ = yield lowest, True, False
+        if stockout > stockout_target:
+            return None
     return lowest
 
 
-def _guess(walk: BandedWalk, horizon: int, overflow_target: float, reach: int) -> int:
+def _guess(
+    walk: BandedWalk, horizon: int, overflow_target: float, reach: int, own_overflow: np.ndarray | None = None
+) -> int:
     """A first capacity to probe: from the overflow risk by start at the walk's own capacity, shifted."""
     if walk.high is not None and walk.high > walk.low and walk.cost(horizon, "risk_by_start").units <= WORK_CAP:
-        by_start = walk.risk_by_start(horizon)
-        meeting = np.flatnonzero(by_start.overflow <= overflow_target)  # risk rises with the start
+        if own_overflow is None:
+            own_overflow = walk.risk_by_start(horizon).overflow  # over starts low..high
+        meeting = np.flatnonzero(own_overflow <= overflow_target)  # risk rises with the start
         if meeting.size:
-            room = walk.high - int(by_start.starts[meeting[-1]])  # room above the start that meets the target
+            room = walk.high - (walk.low + int(meeting[-1]))  # room above the start that meets the target
             return int(min(walk.start + room, reach))
     # Room beyond the band: the normal approximation of the running maximum (reflection: P(max > x) ~ 2 P(S > x));
     # for a downward drift, the exponential tail of the maximum, P(max > x) ~ exp(-theta x) per excursion
@@ -156,12 +192,18 @@ def _guess(walk: BandedWalk, horizon: int, overflow_target: float, reach: int) -
     z = float(stats.norm.isf(target / 2)) if overflow_target < 1 else 0.0
     room = max(drift, 0.0) * horizon + max(z, 0.0) * spread
     if drift < 0 and walk.max_up > 0:
-        room = min(room, math.log(horizon / target) / _adjustment_coefficient(walk.laws))
+        coefficient = _adjustment_coefficient(walk.laws)
+        if coefficient is not None:
+            room = min(room, math.log(horizon / target) / coefficient)
     return int(min(walk.start + max(math.ceil(room), 1), reach))
 
 
-def _adjustment_coefficient(laws) -> float:
-    """theta > 0 with prod_k G_k(e^theta) = 1 for a cycle of laws drifting down (per period, averaged)."""
+def _adjustment_coefficient(laws) -> float | None:
+    """theta > 0 with prod_k G_k(e^theta) = 1 for a cycle of laws drifting down (per period, averaged).
+
+    None when the drift is down only by rounding (log G at a tiny theta is not below 0): no root
+    to bracket, and the normal room stands.
+    """
 
     def log_g(theta: float) -> float:
         total = 0.0
@@ -171,6 +213,8 @@ def _adjustment_coefficient(laws) -> float:
             total += peak + math.log(np.exp(exponents - peak).sum())
         return total
 
+    if log_g(1e-12) >= 0:
+        return None
     high = 1.0
     while log_g(high) <= 0 and high < 1e6:
         high *= 2
@@ -209,8 +253,13 @@ def _with_capacity(walk: BandedWalk, capacity: int) -> BandedWalk:
 
 
 def _probe_work(walk: BandedWalk, horizon: int, capacity: int) -> Work:
-    probe = _with_capacity(walk, capacity)
-    sweep = probe.cost(horizon, "first_passage")
+    if abs(capacity) > checks.LEVEL_LIMIT:
+        _with_capacity(walk, capacity)  # refused, naming the capacity
+    # The walk with that capacity, without checking again what its own checks passed (a search prices
+    # dozens of probes; the capacity is within the band's limits, at least the start).
+    probe = copy.copy(walk)
+    probe.high = capacity
+    sweep = probe._price(horizon, "first_passage")
     if walk.below == "backorder":
         return sweep
-    return min(sweep, probe.cost(horizon, "outlook_at"), key=lambda work: work.units)
+    return min(sweep, probe._price(horizon, "outlook_at"), key=lambda work: work.units)
