@@ -113,21 +113,25 @@ def room_overflow(laws: Sequence[StepLaw], horizon: int, rooms: int) -> np.ndarr
     """P(an overflow within ``horizon``) for a walk with no floor, by room above the start: 0..rooms - 1.
 
     The overflow risk of a backordering walk from start s with capacity c is the
-    entry c - s. Period by period (n periods left) only rooms below
-    ``rooms + (horizon - n) x largest fall`` are needed later and only rooms below
-    ``n x largest rise`` can still overflow (above it the risk is exactly 0), so the
-    window is the smaller of the two. Same sums of non-negative products as the
-    banded sweep over the whole grid.
+    entry c - s. Period by period (n periods left) only rooms below ``rooms`` plus
+    the largest fall of the periods before are needed later, and only rooms below
+    the largest rise of the n periods left can still overflow (above it the risk is
+    exactly 0), so the window is the smaller of the two. Same sums of non-negative
+    products as the banded sweep over the whole grid.
     """
-    rise = max(0, max(law.highest for law in laws))
-    fall = max(0, max(-law.lowest for law in laws))
-    risk = np.zeros(rooms)
-    if rise == 0 or rooms < 1:
+    risk = np.zeros(max(rooms, 0))
+    if rooms < 1:
         return risk
+    cycle = [laws[(period - 1) % len(laws)] for period in range(1, horizon + 1)]
+    fall_before = np.concatenate(([0], np.cumsum([max(0, -law.lowest) for law in cycle])))  # periods 1..k
+    rise_after = np.concatenate(([0], np.cumsum([max(0, law.highest) for law in reversed(cycle)])))  # last k
     previous = np.zeros(0)  # by level, lowest first: previous[i] is the room previous.size - 1 - i
     for left in range(1, horizon + 1):
-        law = laws[(horizon - left) % len(laws)]  # the period with ``left`` periods to go
-        width = min(rooms - 1 + (horizon - left) * fall, left * rise - 1) + 1
+        law = cycle[horizon - left]  # the period with ``left`` periods to go
+        width = min(rooms - 1 + int(fall_before[horizon - left]), int(rise_after[left]) - 1) + 1
+        if width <= 0:  # no rise yet: the risk is 0 at every room
+            previous = np.zeros(0)
+            continue
         # Levels y = -room from -(width - 1) + lowest to highest: 1 above the capacity (y > 0),
         # the previous period's risk where it was kept, 0 below it (exactly 0 or never read).
         low_y = -(width - 1) + law.lowest
