@@ -14,15 +14,16 @@
 
 from __future__ import annotations
 
-import copy
+import functools
 import math
 from dataclasses import dataclass
+from types import SimpleNamespace
 from typing import TYPE_CHECKING
 
 import numpy as np
 from scipy import optimize, stats
 
-from walkmath import checks
+from walkmath import checks, longrun
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
 from walkmath.operator import Rules
 
@@ -189,7 +190,7 @@ def _guess(
     drift = sum(law.mean for law in walk.laws) / len(walk.laws)
     spread = math.sqrt(sum(law.variance for law in walk.laws) / len(walk.laws) * horizon)
     target = max(overflow_target, 1e-300)
-    z = float(stats.norm.isf(target / 2)) if overflow_target < 1 else 0.0
+    z = _normal_quantile_above(target / 2) if overflow_target < 1 else 0.0
     room = max(drift, 0.0) * horizon + max(z, 0.0) * spread
     if drift < 0 and walk.max_up > 0:
         coefficient = _adjustment_coefficient(walk.laws)
@@ -198,6 +199,13 @@ def _guess(
     return int(min(walk.start + max(math.ceil(room), 1), reach))
 
 
+@functools.lru_cache(maxsize=1024)
+def _normal_quantile_above(tail: float) -> float:
+    """z with P(Z > z) = ``tail`` (scipy's isf; cached: a portfolio asks for the same few targets)."""
+    return float(stats.norm.isf(tail))
+
+
+@functools.lru_cache(maxsize=4096)
 def _adjustment_coefficient(laws) -> float | None:
     """theta > 0 with prod_k G_k(e^theta) = 1 for a cycle of laws drifting down (per period, averaged).
 
@@ -253,13 +261,18 @@ def _with_capacity(walk: BandedWalk, capacity: int) -> BandedWalk:
 
 
 def _probe_work(walk: BandedWalk, horizon: int, capacity: int) -> Work:
+    """Priced work of one probe at ``capacity``: what ``BandedWalk.cost`` gives the walk with that capacity
+    for "first_passage" (and "outlook_at", if cheaper and the floor does not backorder), computed from
+    the walk's own numbers (a search prices dozens of probes; the capacity is at least the start)."""
     if abs(capacity) > checks.LEVEL_LIMIT:
         _with_capacity(walk, capacity)  # refused, naming the capacity
-    # The walk with that capacity, without checking again what its own checks passed (a search prices
-    # dozens of probes; the capacity is within the band's limits, at least the start).
-    probe = copy.copy(walk)
-    probe.high = capacity
-    sweep = probe._price(horizon, "first_passage")
+    lowest = walk.start - horizon * walk.max_down  # BandedWalk._grid with high = capacity
+    if walk.below != "backorder":
+        lowest = max(lowest, walk.low)
+    levels = min(walk.start + horizon * walk.max_up, capacity) - lowest + 1
+    jumps = max(law.probs.size for law in walk.laws)
     if walk.below == "backorder":
-        return sweep
-    return min(sweep, probe._price(horizon, "outlook_at"), key=lambda work: work.units)
+        return Work("first_passage", levels, horizon, jumps)
+    sweep = Work("first_passage", levels, horizon, min(jumps, levels))
+    squaring = longrun.work(SimpleNamespace(high=capacity, low=walk.low, start=walk.start, laws=walk.laws), horizon)
+    return min(sweep, squaring, key=lambda work: work.units)

@@ -1,11 +1,17 @@
 """walkmath.portfolio: many items at once, each answered as the single-item engine answers it."""
 
+import dataclasses
+import math
 from fractions import Fraction
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 import walkmath as wm
+from tests.walkmath import exact
 from walkmath import portfolio as pf
+from walkmath import portfolio_sample
 
 
 def _coin_item(**changes):
@@ -84,15 +90,6 @@ def test_spares_item_meets_target_with_smallest_spares():
 
 
 # -- the batched path against the reference, item by item --------------------------------------
-
-import dataclasses  # noqa: E402
-import math  # noqa: E402
-
-from hypothesis import HealthCheck, given, settings  # noqa: E402
-from hypothesis import strategies as st  # noqa: E402
-
-from tests.walkmath import exact  # noqa: E402
-from walkmath import portfolio_sample  # noqa: E402
 
 
 def _close(fast: float, reference: float) -> bool:
