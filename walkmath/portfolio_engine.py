@@ -63,6 +63,8 @@ class LawTables:
         self.pending: set[tuple[str, int]] = set()
         self.rooms = np.zeros(0)
         self.rooms_needed = 0
+        self.falls = np.zeros(0)  # stock-out risk with no capacity, by level above the floor
+        self.falls_needed = 0
         self.sweeps = 0  # stacked sweeps run (for the benchmark's report)
         self.rows_swept = 0
 
@@ -74,6 +76,9 @@ class LawTables:
             self.rooms_needed = max(self.rooms_needed, width)
         else:
             self._want((row_kind("overflow", below), width))
+
+    def want_no_capacity(self, levels: int) -> None:
+        self.falls_needed = max(self.falls_needed, levels)
 
     def _want(self, key: tuple[str, int]) -> None:
         if key not in self.rows:
@@ -90,6 +95,11 @@ class LawTables:
         if self.rooms_needed > self.rooms.size:
             # Grow by doubling so that a gallop asking for ever wider rooms costs a few sweeps, not one each.
             self.rooms = room_overflow(self.laws, self.horizon, max(self.rooms_needed, 2 * self.rooms.size))
+            self.sweeps += 1
+        if self.falls_needed > self.falls.size:
+            # With no capacity a stock-out from level x is an overflow of the mirrored walk with room x.
+            mirrored = [StepLaw._trusted(-law.highest, law.probs[::-1]) for law in self.laws]
+            self.falls = room_overflow(mirrored, self.horizon, self.falls_needed)
             self.sweeps += 1
 
     def stockout(self, above: str, width: int) -> np.ndarray:
@@ -118,8 +128,8 @@ class _StockPlan:
     stockout_target: float
     overflow_target: float | None  # for the smallest start (None without a capacity)
     search: bool  # a capacity search runs (capacity and overflow target given)
-    width: int  # levels of the item's own band (or of the no-capacity grid)
-    top: int  # highest start the answer covers (relative to low)
+    width: int  # levels of the item's own band (without a capacity: the starts the answer covers)
+    top: int  # starts the answer covers: low..low + top - 1
 
 
 def stock_outcomes(entries: Sequence[tuple[int, object]], cap: int, reference) -> dict[int, tuple]:
@@ -176,9 +186,8 @@ def _stock_plan(index: int, item, walk) -> _StockPlan:
         overflow_target = checks.probability("overflow_target", item.overflow_target)
     if walk.high is not None:
         width = top = walk.high - walk.low + 1
-    else:  # the reference's grid without a capacity: starts low..top, room to walk up above them
-        top = risk._default_top(walk, item.horizon) - walk.low + 1
-        width = top + item.horizon * walk.max_up
+    else:  # the reference's starts without a capacity: low..top (risk_by_start's default top)
+        width = top = risk._default_top(walk, item.horizon) - walk.low + 1
     return _StockPlan(index, item, walk, stockout_target, overflow_target, overflow_target is not None, width, top)
 
 
@@ -186,16 +195,20 @@ def _own_answers(plans: list[_StockPlan], tables: LawTables) -> dict[int, tuple]
     """Risks at each item's start and its smallest start, from the rows at its own width."""
     for plan in plans:
         walk = plan.walk
-        tables.want_stockout(walk.above if walk.high is not None else "stop", plan.width)
-        if walk.high is not None:
-            # Backorders: rooms up to twice the band, so the capacity probes near the guess find them ready.
-            tables.want_overflow(walk.below, 2 * plan.width if walk.below == "backorder" else plan.width)
+        if walk.high is None:
+            tables.want_no_capacity(plan.top)
+            continue
+        tables.want_stockout(walk.above, plan.width)
+        # Backorders: rooms up to twice the band, so the capacity probes near the guess find them ready.
+        tables.want_overflow(walk.below, 2 * plan.width if walk.below == "backorder" else plan.width)
     tables.flush()
     answers = {}
     for plan in plans:
         walk = plan.walk
-        stockout = tables.stockout(walk.above if walk.high is not None else "stop", plan.width)[: plan.top]
-        overflow = tables.overflow(walk.below, plan.width) if walk.high is not None else np.zeros(plan.top)
+        if walk.high is None:  # no capacity: the mirrored rooms, and no overflow
+            stockout, overflow = tables.falls[: plan.top], np.zeros(plan.top)
+        else:
+            stockout, overflow = tables.stockout(walk.above, plan.width), tables.overflow(walk.below, plan.width)
         meets = stockout <= plan.stockout_target
         if plan.overflow_target is not None:
             meets &= overflow <= plan.overflow_target
