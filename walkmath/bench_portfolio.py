@@ -5,9 +5,11 @@ stock items and 10,000 reorder items by default), the batched
 ``answer_items`` in one process and split over two worker processes (items
 sorted by their laws, so each worker keeps the sharing), the item-by-item
 reference on a sample of the same items (and the batched path on that sample,
-for the ratio), and the worst case for sharing: every stock item with a law of
+for the ratio; each worker gets whole groups of items sharing their laws,
+balanced on a rough guess of their work), and the worst case for sharing: every stock item with a law of
 its own. Engine time only (no queue, no database). Times are wall-clock
-seconds on whatever machine runs it, which may be shared: rerun before quoting.
+seconds on whatever machine runs it, which may be shared (the CPU seconds
+beside them say how much of the wall time was this run's): rerun before quoting.
 """
 
 from __future__ import annotations
@@ -23,19 +25,39 @@ from walkmath.portfolio_engine import law_digest
 _WORK: list = []  # the items a forked worker reads (inherited, never pickled)
 
 
-def _answer_chunk(bounds: tuple[int, int]) -> int:
-    outcomes = portfolio.answer_items(_WORK[bounds[0] : bounds[1]])
-    return sum(outcome.answer is not None for outcome in outcomes)
+def _answer_share(indices: list[int]) -> tuple[int, float]:
+    """One worker's share: its answered count and its own CPU seconds."""
+    began = time.process_time()
+    outcomes = portfolio.answer_items([_WORK[index] for index in indices])
+    return sum(outcome.answer is not None for outcome in outcomes), time.process_time() - began
 
 
-def by_law(items: list) -> list:
-    """Items sorted by the digest of their laws, so that a contiguous chunk keeps its groups whole."""
+def law_key(item) -> bytes:
+    return law_digest(item.laws if isinstance(item, portfolio.StockItem) else (item.demand,))
 
-    def key(item):
-        laws = item.laws if isinstance(item, portfolio.StockItem) else (item.demand,)
-        return law_digest(laws)
 
-    return sorted(items, key=key)
+def rough_work(item) -> int:
+    """A cheap guess of an item's share of the work, to balance the workers (the engine prices it exactly)."""
+    if not isinstance(item, portfolio.StockItem):
+        return item.lead_time if isinstance(item.lead_time, int) else 1
+    jumps = max(law.probs.size for law in item.laws)
+    width = (item.high - item.low + 1) if item.high is not None else 200
+    return (width + jumps) * jumps
+
+
+def shares(items: list, workers: int) -> list[list[int]]:
+    """Indices for each worker: whole groups of items with the same laws (so each keeps its sharing),
+    the heaviest groups first, each to the worker with the least work so far."""
+    groups: dict[bytes, list[int]] = {}
+    for index, item in enumerate(items):
+        groups.setdefault(law_key(item), []).append(index)
+    weights = {key: sum(rough_work(items[i]) for i in members) for key, members in groups.items()}
+    loads, result = [0] * workers, [[] for _ in range(workers)]
+    for key in sorted(groups, key=weights.get, reverse=True):
+        lightest = loads.index(min(loads))
+        result[lightest] += groups[key]
+        loads[lightest] += weights[key]
+    return result
 
 
 def timed(run) -> tuple[float, object]:
@@ -44,38 +66,35 @@ def timed(run) -> tuple[float, object]:
     return time.perf_counter() - began, result
 
 
-def two_processes(items: list) -> float:
-    """Wall time of ``answer_items`` over two forked workers, each on half the items (sorted by law)."""
+def two_processes(items: list) -> tuple[float, float, float]:
+    """Wall time of ``answer_items`` over two forked workers (the split included), and each worker's CPU time."""
     global _WORK
-    _WORK = by_law(items)
-    middle = len(_WORK) // 2
-    while 0 < middle < len(_WORK) and law_key(_WORK[middle]) == law_key(_WORK[middle - 1]):
-        middle += 1  # keep a group in one worker
+    _WORK = items
     context = multiprocessing.get_context("fork")
     began = time.perf_counter()
     with context.Pool(2) as pool:
-        pool.map(_answer_chunk, [(0, middle), (middle, len(_WORK))])
-    return time.perf_counter() - began
-
-
-def law_key(item) -> bytes:
-    return law_digest(item.laws if isinstance(item, portfolio.StockItem) else (item.demand,))
+        done = pool.map(_answer_share, shares(items, 2))
+    return time.perf_counter() - began, done[0][1], done[1][1]
 
 
 def rows_for(name: str, items: list, sample: int, rows: list) -> None:
     count = len(items)
     laws = portfolio_sample.distinct_laws(items)
+    cpu = time.process_time()
     one, outcomes = timed(lambda: portfolio.answer_items(items))
+    cpu = time.process_time() - cpu
     answered = sum(outcome.answer is not None for outcome in outcomes)
     rows.append(
         (
             f"{name}: {count:,} items, {laws:,} distinct laws, batched, 1 process",
             one,
-            f"{count / one:,.0f} items/s; {answered:,} answered",
+            f"{count / one:,.0f} items/s; CPU {cpu:.1f} s; {answered:,} answered",
         )
     )
-    two = two_processes(items)
-    rows.append((f"{name}: batched, 2 processes", two, f"{count / two:,.0f} items/s"))
+    two, first, second = two_processes(items)
+    rows.append(
+        (f"{name}: batched, 2 processes", two, f"{count / two:,.0f} items/s; CPU {first:.1f} s + {second:.1f} s")
+    )
     if sample:
         picked = items[:: max(1, count // sample)][:sample]
         fast, _ = timed(lambda: portfolio.answer_items(picked))
