@@ -1,13 +1,13 @@
 """Benchmark of many items at once: ``python -m walkmath.bench portfolio [items] [distinct items] [sample]``.
 
 Prints one table: for the seeded store of ``walkmath.portfolio_sample`` (10,000
-stock items and 10,000 reorder items by default), the batched
-``answer_items`` in one process and split over two worker processes (items
-sorted by their laws, so each worker keeps the sharing), the item-by-item
-reference on a sample of the same items (and the batched path on that sample,
-for the ratio; each worker gets whole groups of items sharing their laws,
-balanced on a rough guess of their work), and the worst case for sharing: every stock item with a law of
-its own. Engine time only (no queue, no database). Times are wall-clock
+stock items and 10,000 reorder items by default), the batched ``answer_items``
+in one process and split over two forked worker processes (each worker gets
+whole groups of items sharing their laws, so it keeps the sharing, balanced on
+a rough guess of their work), the item-by-item reference on a sample of the
+same items (and the batched path on that sample, for the ratio), and the worst
+case for sharing: every stock item with a law of its own (2,000 items by
+default). Engine time only (no queue, no database). Times are wall-clock
 seconds on whatever machine runs it, which may be shared (the CPU seconds
 beside them say how much of the wall time was this run's): rerun before quoting.
 """
