@@ -15,6 +15,7 @@
 from __future__ import annotations
 
 import functools
+import hashlib
 import math
 from dataclasses import dataclass
 from types import SimpleNamespace
@@ -205,13 +206,33 @@ def _normal_quantile_above(tail: float) -> float:
     return float(stats.norm.isf(tail))
 
 
-@functools.lru_cache(maxsize=4096)
+# theta by a digest of the cycle's laws (never the laws themselves, which may be large), at most this many.
+_COEFFICIENTS: dict[bytes, float | None] = {}
+_COEFFICIENTS_KEPT = 4096
+
+
 def _adjustment_coefficient(laws) -> float | None:
     """theta > 0 with prod_k G_k(e^theta) = 1 for a cycle of laws drifting down (per period, averaged).
 
     None when the drift is down only by rounding (log G at a tiny theta is not below 0): no root
-    to bracket, and the normal room stands.
+    to bracket, and the normal room stands. Kept by a digest of the laws: a portfolio asks for the
+    same law's theta once per item.
     """
+    digest = hashlib.blake2b(digest_size=16)
+    for law in laws:
+        digest.update(int(law.lowest).to_bytes(8, "little", signed=True))
+        digest.update(int(law.probs.size).to_bytes(8, "little"))
+        digest.update(np.ascontiguousarray(law.probs, dtype=float).tobytes())
+    key = digest.digest()
+    if key not in _COEFFICIENTS:
+        if len(_COEFFICIENTS) >= _COEFFICIENTS_KEPT:
+            _COEFFICIENTS.clear()
+        _COEFFICIENTS[key] = _solve_adjustment_coefficient(laws)
+    return _COEFFICIENTS[key]
+
+
+def _solve_adjustment_coefficient(laws) -> float | None:
+    """``_adjustment_coefficient`` itself: Brent's method on log prod_k G_k(e^theta)."""
 
     def log_g(theta: float) -> float:
         total = 0.0
