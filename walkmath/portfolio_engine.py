@@ -71,9 +71,11 @@ class LawTables:
     def want_stockout(self, above: str, width: int) -> None:
         self._want((row_kind("stockout", above), width))
 
-    def want_overflow(self, below: str, width: int) -> None:
+    def want_overflow(self, below: str, width: int, level: int = 0) -> None:
+        """The overflow row of this width; for backorders the rooms above ``level`` and up (the lowest
+        start asked for, relative to the floor)."""
         if below == "backorder":
-            self.rooms_needed = max(self.rooms_needed, width)
+            self.rooms_needed = max(self.rooms_needed, width - level)
         else:
             self._want((row_kind("overflow", below), width))
 
@@ -199,8 +201,9 @@ def _own_answers(plans: list[_StockPlan], tables: LawTables) -> dict[int, tuple]
             tables.want_no_capacity(plan.top)
             continue
         tables.want_stockout(walk.above, plan.width)
-        # Backorders: rooms up to twice the band, so the capacity probes near the guess find them ready.
-        tables.want_overflow(walk.below, 2 * plan.width if walk.below == "backorder" else plan.width)
+        # Backorders: two rooms more than the band, so the first capacity probes (the guess, exact for a
+        # backordering walk, and its neighbours; at most the band's width above the start) find them ready.
+        tables.want_overflow(walk.below, plan.width + 2 if walk.below == "backorder" else plan.width)
     tables.flush()
     answers = {}
     for plan in plans:
@@ -305,7 +308,7 @@ def _want_probe(tables: LawTables, walk, capacity: int, stockout: bool, overflow
     if stockout:
         tables.want_stockout(walk.above, width)
     if overflow:
-        tables.want_overflow(walk.below, width)
+        tables.want_overflow(walk.below, width, walk.start - walk.low)
 
 
 def _advance(plan: _StockPlan, search, risks, waiting: dict, found: dict) -> None:
