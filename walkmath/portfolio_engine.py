@@ -12,7 +12,11 @@ search itself (``walkmath.sizing.capacity_search``, same probes, same work
 counted against the cap, same refusal), each probe read off the row at that
 capacity. The searches of a group run side by side: each round gathers the
 probes every search asks for, sweeps the rows not yet known in one stacked
-sweep, and answers them all.
+sweep, and answers them all. Items without a capacity read their stock-out
+risk off the mirrored walk's overflow by room. A search whose stock-out target
+no capacity can meet (spill at the capacity: a lower bound at its start, from
+one shared row, is above the target) replays its own path to its answer or
+refusal without a probe.
 
 Reorder items sharing a demand law, lead time and review period share the
 protection-interval demand law and its tails; each answer is then read off them
