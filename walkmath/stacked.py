@@ -51,7 +51,7 @@ def row_kind(event: str, rule: str) -> str:
 
 def stacked_work(laws: Sequence[StepLaw], horizon: int, widths: Sequence[int]) -> int:
     """Multiply-adds of ``stacked_risks`` for rows of these widths (each row and its padding, every period)."""
-    pad_low, pad_high = _pads(laws)
+    pad_low, pad_high = _pads(_folded(laws, max(widths, default=1)))
     jumps = max(law.probs.size for law in laws)
     return horizon * jumps * int(sum(width + pad_low + pad_high for width in widths))
 
@@ -66,10 +66,11 @@ def stacked_risks(laws: Sequence[StepLaw], horizon: int, rows: Sequence[tuple[st
     """
     if not rows:
         return []
-    pad_low, pad_high = _pads(laws)
     widths = np.array([width for _, width in rows], dtype=np.int64)
     if widths.min() < 1:
         raise ValueError("every row needs a width of at least 1 level")
+    laws = _folded(laws, int(widths.max()))
+    pad_low, pad_high = _pads(laws)
     blocks = widths + pad_low + pad_high
     offsets = np.concatenate(([0], np.cumsum(blocks)[:-1]))
     total = int(blocks.sum())
@@ -125,10 +126,16 @@ def room_overflow(laws: Sequence[StepLaw], horizon: int, rooms: int) -> np.ndarr
     cycle = [laws[(period - 1) % len(laws)] for period in range(1, horizon + 1)]
     fall_before = np.concatenate(([0], np.cumsum([max(0, -law.lowest) for law in cycle])))  # periods 1..k
     rise_after = np.concatenate(([0], np.cumsum([max(0, law.highest) for law in reversed(cycle)])))  # last k
+    windows = [
+        min(rooms - 1 + int(fall_before[horizon - left]), int(rise_after[left]) - 1) + 1
+        for left in range(1, horizon + 1)
+    ]
+    # A rise of the widest window or more overflows from every room: only its total chance matters.
+    cycle = _folded(cycle, max(max(windows, default=1), 1), below=False)
     previous = np.zeros(0)  # by level, lowest first: previous[i] is the room previous.size - 1 - i
     for left in range(1, horizon + 1):
         law = cycle[horizon - left]  # the period with ``left`` periods to go
-        width = min(rooms - 1 + int(fall_before[horizon - left]), int(rise_after[left]) - 1) + 1
+        width = windows[left - 1]
         if width <= 0:  # no rise yet: the risk is 0 at every room
             previous = np.zeros(0)
             continue
@@ -146,6 +153,31 @@ def room_overflow(laws: Sequence[StepLaw], horizon: int, rooms: int) -> np.ndarr
     kept = min(rooms, previous.size)
     risk[:kept] = previous[::-1][:kept]
     return np.minimum(risk, 1.0)
+
+
+def _folded(laws: Sequence[StepLaw], reach: int, below: bool = True) -> list[StepLaw]:
+    """The cycle with each law's steps of ``reach`` levels or more gathered at +reach (and at -reach,
+    if ``below``).
+
+    From any level of a band at most ``reach`` wide such a step leaves the band at that end, where
+    the value is the same whatever the step, so only its total chance matters; the pads then stay
+    within the band's width however far the law reaches (a law shifted by 10**9, say, or the
+    Poisson counts of a mean of 10**6).
+    """
+    low_limit = -reach if below else None
+    folded: dict[int, StepLaw] = {}
+    for law in laws:
+        lowest = law.lowest if low_limit is None else max(law.lowest, low_limit)
+        highest = min(law.highest, reach)
+        if id(law) in folded or (lowest == law.lowest and highest == law.highest):
+            folded.setdefault(id(law), law)
+            continue
+        if lowest > highest:  # every step lies beyond one end
+            lowest = highest = reach if law.lowest > reach else low_limit
+        probs = np.zeros(highest - lowest + 1)
+        np.add.at(probs, np.clip(law.steps, lowest, highest) - lowest, law.probs)
+        folded[id(law)] = StepLaw._trusted(lowest, probs, law.truncated_mass)
+    return [folded[id(law)] for law in laws]
 
 
 def _pads(laws: Sequence[StepLaw]) -> tuple[int, int]:
