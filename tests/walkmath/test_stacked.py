@@ -79,3 +79,21 @@ def test_no_rows_and_bad_rows():
         stacked.stacked_risks([wm.StepLaw.nearest(0.3, 0.3)], 5, [("stockout-stop", 0)])
     with pytest.raises(ValueError, match="rule"):
         stacked.row_kind("stockout", "lost")
+
+
+def test_far_steps_are_gathered_at_the_ends():
+    # Steps far beyond the band leave it from every level: gathered into one step, the risks are those of
+    # the plain sweep (risk_by_start on lost/spill walks sweeps the band with operator.backward_step).
+    law = wm.StepLaw.from_pmf({-50: 0.25, -1: 0.25, 0: 0.2, 2: 0.2, 60: 0.1})
+    horizon, width = 12, 6
+    for above in ("spill", "stop"):
+        rows = [(stacked.row_kind("stockout", above), width), ("overflow-lost", width)]
+        stockout, overflow = stacked.stacked_risks([law], horizon, rows)
+        reference = wm.BandedWalk(law, 0, 0, width - 1, "lost", above).risk_by_start(horizon)
+        assert _close(stockout, reference.stockout) <= 1e-12
+        assert _close(overflow, reference.overflow) <= 1e-12
+    # A law a billion levels away: every start stocks out in the first period, and no pad is that wide.
+    away = wm.StepLaw.from_pmf({-(10**9): 0.5, 1 - 10**9: 0.5})
+    (certain,) = stacked.stacked_risks([away], 3, [("stockout-spill", 4)])
+    assert np.all(certain == 1.0)
+    assert np.all(stacked.room_overflow([away], 3, 4) == 0.0)
