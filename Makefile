@@ -12,7 +12,7 @@ SECRET_KEY_FILE := .secret_key
 # A key from the environment wins; otherwise the local generated one.
 RUN_ENV = SECRET_KEY="$${SECRET_KEY:-$$(cat $(SECRET_KEY_FILE))}"
 
-.PHONY: run test test-prescott bench loadtest lint
+.PHONY: run test test-prescott bench bench-portfolio loadtest lint
 
 $(BIN)/.installed: requirements.txt
 	test -x $(BIN)/python || $(PYTHON) -m venv $(VENV)
@@ -41,6 +41,9 @@ test-prescott: $(BIN)/.installed
 
 bench: $(BIN)/.installed
 	$(BIN)/python -m walkmath.bench
+
+bench-portfolio: $(BIN)/.installed
+	$(BIN)/python -m walkmath.bench portfolio
 
 # gunicorn with 2 workers, 8 concurrent clients on the demo scenarios (loads them first)
 loadtest: $(BIN)/.installed $(SECRET_KEY_FILE)

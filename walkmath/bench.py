@@ -1,5 +1,7 @@
 """Benchmark: ``python -m walkmath.bench`` prints one table of timings and ratios.
 
+``python -m walkmath.bench portfolio`` times many items at once instead (``walkmath.bench_portfolio``).
+
 Baselines are written here, for the same walk: a dense K x K matrix-vector
 product per period, and a minimal numpy slicing loop (three shifted adds per
 period, no rules beyond stopping). Times are the best of a few repeats on
@@ -293,4 +295,11 @@ def main() -> None:
 
 
 if __name__ == "__main__":
-    main()
+    import sys
+
+    if sys.argv[1:2] == ["portfolio"]:
+        from walkmath import bench_portfolio
+
+        bench_portfolio.main(sys.argv[2:])
+    else:
+        main()

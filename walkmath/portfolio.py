@@ -172,8 +172,10 @@ def answer_spares_item(item: SparesItem, cap: int = WORK_CAP) -> SparesAnswer:
 _ANSWER = {StockItem: answer_stock_item, ReorderItem: answer_reorder_item, SparesItem: answer_spares_item}
 
 
-def answer_items(items: Sequence[StockItem | ReorderItem | SparesItem], cap: int = WORK_CAP) -> list[ItemOutcome]:
-    """Every item's answer in order; an item with bad parameters or over ``cap`` gets its reason instead."""
+def answer_items_by_item(
+    items: Sequence[StockItem | ReorderItem | SparesItem], cap: int = WORK_CAP
+) -> list[ItemOutcome]:
+    """The reference: every item through the single-item engine, one after another."""
     outcomes = []
     for item in items:
         try:
@@ -183,3 +185,23 @@ def answer_items(items: Sequence[StockItem | ReorderItem | SparesItem], cap: int
         except ValueError as exc:
             outcomes.append(ItemOutcome(None, str(exc)))
     return outcomes
+
+
+def answer_items(items: Sequence[StockItem | ReorderItem | SparesItem], cap: int = WORK_CAP) -> list[ItemOutcome]:
+    """Every item's answer in order; an item with bad parameters or over ``cap`` gets its reason instead.
+
+    The same answers as ``answer_items_by_item`` (the same whole numbers, risks equal up to rounding),
+    computed in batches (``walkmath.portfolio_engine``): stock items sharing their laws and horizon share
+    their backward sweeps and capacity probes, reorder items sharing demand and lead time share the
+    lead-time demand law. Every item is priced before any of its work, as the reference prices it.
+    """
+    from walkmath import portfolio_engine
+
+    by_kind: dict[type, list[tuple[int, object]]] = {StockItem: [], ReorderItem: [], SparesItem: []}
+    for index, item in enumerate(items):
+        by_kind[type(item)].append((index, item))  # any other type: KeyError, as in the reference
+    found = portfolio_engine.stock_outcomes(by_kind[StockItem], cap, answer_stock_item)
+    found.update(portfolio_engine.reorder_outcomes(by_kind[ReorderItem], cap))
+    for index, item in by_kind[SparesItem]:
+        found[index] = portfolio_engine._run_reference(answer_spares_item, item, cap)
+    return [ItemOutcome(*found[index]) for index in range(len(items))]

@@ -21,6 +21,7 @@ import numpy as np
 from walkmath import checks, longrun, meantime
 from walkmath.cost import Work
 from walkmath.operator import Rules, backward_step, end_values
+from walkmath.steplaw import StepLaw
 
 if TYPE_CHECKING:
     from walkmath.banded import BandedWalk, StartRisk
@@ -49,6 +50,8 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
         rows = np.arange(walk.low, top + 1) - walk.low
         return StartRisk(horizon, np.arange(walk.low, top + 1), stockout[rows], overflow[rows])
     sweep.check()
+    if walk.below == "backorder" or walk.high is None:
+        return _by_room(walk, horizon, top)
     grid_low, grid_high = _grid(walk, horizon, top)
     size, band_lo = grid_high - grid_low + 1, walk.low - grid_low
     rules, capacity = Rules(walk.below, walk.above), walk.high is not None
@@ -72,6 +75,30 @@ def risk_by_start(walk: BandedWalk, horizon: int, top: int | None = None) -> Sta
         stockout=np.minimum(stockout[rows], 1.0),
         overflow=np.minimum(overflow[rows], 1.0),
     )
+
+
+def _by_room(walk: BandedWalk, horizon: int, top: int) -> StartRisk:
+    """The sweep for a walk whose grid would reach far beyond its band (``walkmath.stacked``).
+
+    A backordering walk's grid reaches horizon x largest fall below the floor, and a walk with no
+    capacity horizon x largest rise above ``top``, only so that paths that wander there and come
+    back are counted. The stock-out risk is 1 under the floor, so its sweep needs only the band
+    (padded with 1 below); the overflow risk of a backordering walk depends only on the room above
+    the start, and the stock-out risk with no capacity only on the level above the floor (the
+    mirrored walk's overflow by room): each is one vector swept on a window that keeps only the
+    rooms still needed and still reachable. The same sums of non-negative products, far fewer of them.
+    """
+    from walkmath.banded import StartRisk
+    from walkmath.stacked import room_overflow, row_kind, stacked_risks
+
+    width = top - walk.low + 1
+    if walk.high is None:
+        mirrored = [StepLaw._trusted(-law.highest, law.probs[::-1]) for law in walk.laws]
+        stockout, overflow = room_overflow(mirrored, horizon, width), np.zeros(width)
+    else:
+        (stockout,) = stacked_risks(walk.laws, horizon, [(row_kind("stockout", walk.above), width)])
+        overflow = room_overflow(walk.laws, horizon, width)[::-1]  # the start at level i has room width - 1 - i
+    return StartRisk(horizon=horizon, starts=np.arange(walk.low, top + 1), stockout=stockout, overflow=overflow)
 
 
 def work(walk: BandedWalk, horizon: int, method: str = "risk_by_start", top: int | None = None) -> Work:

@@ -70,14 +70,23 @@ def normal_loss(z: float | np.ndarray) -> float | np.ndarray:
     phi = np.exp(-0.5 * size * size) / _SQRT_2PI
     direct = phi - size * special.ndtr(-size)
     far = np.maximum(size, _CF_FROM)
-    tail = np.zeros_like(far)
-    for term in range(_CF_TERMS, 1, -1):
-        tail = term / (far + tail)
-    tail = 1.0 / (far + tail)
+    tail = _continued_fraction_tail(float(far)) if far.ndim == 0 else _continued_fraction_tail(far)
     continued = phi * tail / (far + tail)
     upper = np.where(size < _CF_FROM, np.maximum(direct, 0.0), continued)
     result = np.where(values < 0, upper + size, upper)
     return float(result) if np.ndim(z) == 0 else result
+
+
+def _continued_fraction_tail(far):
+    """1 / (far + K) with K = 2/(far + 3/(far + ...)), ``_CF_TERMS`` terms from the deepest up.
+
+    The same correctly rounded divisions and additions for a Python float (a scalar: the root
+    search calls this dozens of times) as for an array, so both give the same bits.
+    """
+    tail = 0.0 if isinstance(far, float) else np.zeros_like(far)
+    for term in range(_CF_TERMS, 1, -1):
+        tail = term / (far + tail)
+    return 1.0 / (far + tail)
 
 
 def normal_loss_inverse(loss: float) -> float:

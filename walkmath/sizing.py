@@ -14,14 +14,17 @@
 
 from __future__ import annotations
 
+import functools
+import hashlib
 import math
 from dataclasses import dataclass
+from types import SimpleNamespace
 from typing import TYPE_CHECKING
 
 import numpy as np
 from scipy import optimize, stats
 
-from walkmath import checks
+from walkmath import checks, longrun
 from walkmath.cost import WORK_CAP, ComputeTooLarge, Work
 from walkmath.operator import Rules
 
@@ -92,11 +95,41 @@ def smallest_capacity(
     overflow_target = checks.probability("overflow_target", overflow_target)
     if stockout_target is not None:
         stockout_target = checks.probability("stockout_target", stockout_target)
+    search = capacity_search(walk, horizon, overflow_target, stockout_target, cap=cap)
+    request = next(search)
+    while True:
+        capacity, stockout, overflow = request
+        try:
+            request = search.send(risk_at_capacity(walk, horizon, capacity, stockout=stockout, overflow=overflow))
+        except StopIteration as done:
+            return done.value
+
+
+def capacity_search(
+    walk: BandedWalk,
+    horizon: int,
+    overflow_target: float,
+    stockout_target: float | None,
+    *,
+    cap: int = WORK_CAP,
+    own_overflow: np.ndarray | None = None,
+):
+    """The search of ``smallest_capacity`` as a generator, for checked arguments.
+
+    It yields ``(capacity, stockout, overflow)``: a probe at ``capacity`` and which of the two risks
+    it needs from the walk's start; it is sent back ``(stockout risk, overflow risk)`` (a risk not
+    needed may be anything) and returns the answer. The caller chooses how to compute each probe:
+    ``smallest_capacity`` runs one exact sweep from the start per probe, ``walkmath.portfolio_engine``
+    reads the probes of many items off shared backward sweeps. The
+    work counted against ``cap`` is the same either way (the probes' priced work), so both stop at
+    the same probe with the same message. ``own_overflow`` is the overflow risk by start at the
+    walk's own capacity (low..high), if the caller has it; otherwise the guess computes it.
+    """
     both = stockout_target is not None and walk.above == "spill"
     reach = walk.start + horizon * walk.max_up  # beyond it no overflow can happen within the horizon
     spent = 0
 
-    def meets(capacity: int) -> bool:
+    def meets(capacity: int):
         nonlocal spent
         spent += _probe_work(walk, horizon, capacity).units * (1 + both)
         if spent > cap:
@@ -104,15 +137,15 @@ def smallest_capacity(
                 f"the capacity search reached {capacity:,} without settling within the limit of {cap:.3g} "
                 "units of work; shorten the horizon or coarsen the units"
             )
-        stockout, overflow = risk_at_capacity(walk, horizon, capacity, stockout=both)
+        stockout, overflow = yield capacity, both, True
         return overflow <= overflow_target and (not both or stockout <= stockout_target)
 
-    guess = _guess(walk, horizon, overflow_target, reach)
-    if meets(guess):  # gallop down to a capacity that fails, then bisect
+    guess = _guess(walk, horizon, overflow_target, reach, own_overflow)
+    if (yield from meets(guess)):  # gallop down to a capacity that fails, then bisect
         lowest, highest, step = guess, guess, 1
         while lowest > walk.start:
             probe = max(guess - step, walk.start)
-            if not meets(probe):
+            if not (yield from meets(probe)):
                 lowest = probe + 1
                 break
             highest = lowest = probe
@@ -122,30 +155,35 @@ def smallest_capacity(
             return None
         lowest, step = guess + 1, 1
         highest = min(guess + step, reach)
-        while not meets(highest):
+        while not (yield from meets(highest)):
             if highest == reach:
                 return None
             lowest, step = highest + 1, 2 * step
             highest = min(guess + step, reach)
     while lowest < highest:
         middle = (lowest + highest) // 2
-        if meets(middle):
+        if (yield from meets(middle)):
             highest = middle
         else:
             lowest = middle + 1
     stop_fails = stockout_target is not None and walk.above == "stop"
-    if stop_fails and risk_at_capacity(walk, horizon, lowest, overflow=False)[0] > stockout_target:
-        return None
+    if stop_fails:
+        stockout, _ = yield lowest, True, False
+        if stockout > stockout_target:
+            return None
     return lowest
 
 
-def _guess(walk: BandedWalk, horizon: int, overflow_target: float, reach: int) -> int:
+def _guess(
+    walk: BandedWalk, horizon: int, overflow_target: float, reach: int, own_overflow: np.ndarray | None = None
+) -> int:
     """A first capacity to probe: from the overflow risk by start at the walk's own capacity, shifted."""
     if walk.high is not None and walk.high > walk.low and walk.cost(horizon, "risk_by_start").units <= WORK_CAP:
-        by_start = walk.risk_by_start(horizon)
-        meeting = np.flatnonzero(by_start.overflow <= overflow_target)  # risk rises with the start
+        if own_overflow is None:
+            own_overflow = walk.risk_by_start(horizon).overflow  # over starts low..high
+        meeting = np.flatnonzero(own_overflow <= overflow_target)  # risk rises with the start
         if meeting.size:
-            room = walk.high - int(by_start.starts[meeting[-1]])  # room above the start that meets the target
+            room = walk.high - (walk.low + int(meeting[-1]))  # room above the start that meets the target
             return int(min(walk.start + room, reach))
     # Room beyond the band: the normal approximation of the running maximum (reflection: P(max > x) ~ 2 P(S > x));
     # for a downward drift, the exponential tail of the maximum, P(max > x) ~ exp(-theta x) per excursion
@@ -153,15 +191,48 @@ def _guess(walk: BandedWalk, horizon: int, overflow_target: float, reach: int) -
     drift = sum(law.mean for law in walk.laws) / len(walk.laws)
     spread = math.sqrt(sum(law.variance for law in walk.laws) / len(walk.laws) * horizon)
     target = max(overflow_target, 1e-300)
-    z = float(stats.norm.isf(target / 2)) if overflow_target < 1 else 0.0
+    z = _normal_quantile_above(target / 2) if overflow_target < 1 else 0.0
     room = max(drift, 0.0) * horizon + max(z, 0.0) * spread
     if drift < 0 and walk.max_up > 0:
-        room = min(room, math.log(horizon / target) / _adjustment_coefficient(walk.laws))
+        coefficient = _adjustment_coefficient(walk.laws)
+        if coefficient is not None:
+            room = min(room, math.log(horizon / target) / coefficient)
     return int(min(walk.start + max(math.ceil(room), 1), reach))
 
 
-def _adjustment_coefficient(laws) -> float:
-    """theta > 0 with prod_k G_k(e^theta) = 1 for a cycle of laws drifting down (per period, averaged)."""
+@functools.lru_cache(maxsize=1024)
+def _normal_quantile_above(tail: float) -> float:
+    """z with P(Z > z) = ``tail`` (scipy's isf; cached: a portfolio asks for the same few targets)."""
+    return float(stats.norm.isf(tail))
+
+
+# theta by a digest of the cycle's laws (never the laws themselves, which may be large), at most this many.
+_COEFFICIENTS: dict[bytes, float | None] = {}
+_COEFFICIENTS_KEPT = 4096
+
+
+def _adjustment_coefficient(laws) -> float | None:
+    """theta > 0 with prod_k G_k(e^theta) = 1 for a cycle of laws drifting down (per period, averaged).
+
+    None when the drift is down only by rounding (log G at a tiny theta is not below 0): no root
+    to bracket, and the normal room stands. Kept by a digest of the laws: a portfolio asks for the
+    same law's theta once per item.
+    """
+    digest = hashlib.blake2b(digest_size=16)
+    for law in laws:
+        digest.update(int(law.lowest).to_bytes(8, "little", signed=True))
+        digest.update(int(law.probs.size).to_bytes(8, "little"))
+        digest.update(np.ascontiguousarray(law.probs, dtype=float).tobytes())
+    key = digest.digest()
+    if key not in _COEFFICIENTS:
+        if len(_COEFFICIENTS) >= _COEFFICIENTS_KEPT:
+            _COEFFICIENTS.clear()
+        _COEFFICIENTS[key] = _solve_adjustment_coefficient(laws)
+    return _COEFFICIENTS[key]
+
+
+def _solve_adjustment_coefficient(laws) -> float | None:
+    """``_adjustment_coefficient`` itself: Brent's method on log prod_k G_k(e^theta)."""
 
     def log_g(theta: float) -> float:
         total = 0.0
@@ -171,6 +242,8 @@ def _adjustment_coefficient(laws) -> float:
             total += peak + math.log(np.exp(exponents - peak).sum())
         return total
 
+    if log_g(1e-12) >= 0:
+        return None
     high = 1.0
     while log_g(high) <= 0 and high < 1e6:
         high *= 2
@@ -209,8 +282,18 @@ def _with_capacity(walk: BandedWalk, capacity: int) -> BandedWalk:
 
 
 def _probe_work(walk: BandedWalk, horizon: int, capacity: int) -> Work:
-    probe = _with_capacity(walk, capacity)
-    sweep = probe.cost(horizon, "first_passage")
+    """Priced work of one probe at ``capacity``: what ``BandedWalk.cost`` gives the walk with that capacity
+    for "first_passage" (and "outlook_at", if cheaper and the floor does not backorder), computed from
+    the walk's own numbers (a search prices dozens of probes; the capacity is at least the start)."""
+    if abs(capacity) > checks.LEVEL_LIMIT:
+        _with_capacity(walk, capacity)  # refused, naming the capacity
+    lowest = walk.start - horizon * walk.max_down  # BandedWalk._grid with high = capacity
+    if walk.below != "backorder":
+        lowest = max(lowest, walk.low)
+    levels = min(walk.start + horizon * walk.max_up, capacity) - lowest + 1
+    jumps = max(law.probs.size for law in walk.laws)
     if walk.below == "backorder":
-        return sweep
-    return min(sweep, probe.cost(horizon, "outlook_at"), key=lambda work: work.units)
+        return Work("first_passage", levels, horizon, jumps)
+    sweep = Work("first_passage", levels, horizon, min(jumps, levels))
+    squaring = longrun.work(SimpleNamespace(high=capacity, low=walk.low, start=walk.start, laws=walk.laws), horizon)
+    return min(sweep, squaring, key=lambda work: work.units)

@@ -95,3 +95,31 @@ def test_the_capacity_search_stops_itself_at_its_work_limit():
     walk = wm.BandedWalk(UP, start=10, low=0, high=20, below="lost", above="spill")
     with pytest.raises(wm.ComputeTooLarge, match="capacity search reached"):
         walk.smallest_capacity(HORIZON, overflow_target=1e-12, cap=10**5)
+
+
+def test_probe_price_is_the_walk_with_that_capacity_priced():
+    # The search prices each probe from the walk's own numbers; it must be exactly what the walk
+    # with that capacity would price (BandedWalk.cost), or the batched search would stop elsewhere.
+    import random
+
+    from walkmath import sizing
+
+    rng = random.Random(1)
+    laws = [
+        wm.StepLaw.nearest(0.3, 0.3),
+        wm.StepLaw.net(wm.StepLaw.poisson(3.0), wm.StepLaw.poisson(2.0)),
+        wm.StepLaw.from_pmf({2: 0.5, 5: 0.5}),
+        wm.StepLaw.from_pmf({-3: 0.5, -1: 0.5}),
+    ]
+    for _ in range(500):
+        law, low = rng.choice(laws), rng.randint(-5, 5)
+        start = low + rng.randint(0, 30)
+        high = rng.choice([None, start + rng.randint(0, 40)])
+        below, above = rng.choice(["backorder", "lost", "stop"]), rng.choice(["spill", "stop"])
+        walk = wm.BandedWalk([law, law] if rng.random() < 0.3 else law, start, low, high, below, above)
+        horizon, capacity = rng.randint(1, 400), start + rng.randint(0, 3000)
+        probe = wm.BandedWalk(walk.laws, start, low, capacity, below, above)
+        sweep = probe.cost(horizon, "first_passage")
+        if below != "backorder":
+            sweep = min(sweep, probe.cost(horizon, "outlook_at"), key=lambda work: work.units)
+        assert sizing._probe_work(walk, horizon, capacity) == sweep
