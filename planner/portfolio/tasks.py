@@ -1,0 +1,134 @@
+"""Background work of portfolio runs, through Django's Tasks interface (the ``django_tasks`` backport).
+
+``work_out_chunk`` works out one chunk: claim it, answer its items through
+``walkmath.portfolio.answer_items`` (each item priced before it runs; one
+bad or oversized item gets its reason, the others their answers), then write
+the results and mark the chunk done in one transaction.
+
+The database queue (``django_tasks_db``) never hands a task out again once a
+worker has claimed it, even when that worker is killed (its row stays
+"running"). So a chunk carries its own lease: while it works, the worker
+stamps the chunk's ``heartbeat`` every third of ``PORTFOLIO_LEASE_SECONDS``
+from a side thread; a chunk whose stamp is older than the lease is queued
+again (``services.chunks_requeue_stale``) by ``watch_run`` (a task that runs
+once a lease while the run is open, when the backend can defer tasks), by the
+run page's progress poll, and by every chunk task as it starts. Its results
+are written once whatever happens: see ``services.chunk_finish``.
+"""
+
+from __future__ import annotations
+
+import datetime
+import logging
+import threading
+import time
+
+from django.conf import settings
+from django.db import DatabaseError, connection
+from django.utils import timezone
+from django_tasks import default_task_backend, task
+
+from planner.portfolio import items as item_specs
+from planner.portfolio import services
+from planner.portfolio.models import OPEN_STATUSES, PortfolioResult, PortfolioRun
+from walkmath import portfolio as pf
+
+log = logging.getLogger(__name__)
+
+
+def enqueue_run(run_id: int, chunk_ids: list[int]) -> None:
+    """Queue every chunk of a run, then its watcher (when the backend can run a task later)."""
+    for chunk_id in chunk_ids:
+        work_out_chunk.enqueue(chunk_id)
+    _watch_later(run_id)
+
+
+def _watch_later(run_id: int) -> None:
+    if default_task_backend.supports_defer:
+        later = timezone.now() + datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS)
+        watch_run.using(run_after=later).enqueue(run_id)
+
+
+def requeue_stale(run: PortfolioRun) -> int:
+    """Queue again the chunks of ``run`` whose worker went silent; how many."""
+    again = services.chunks_requeue_stale(run=run)
+    for chunk_id in again:
+        work_out_chunk.enqueue(chunk_id)
+    return len(again)
+
+
+@task()
+def watch_run(run_id: int) -> int:
+    run = PortfolioRun.objects.filter(pk=run_id).first()
+    if run is None or run.status not in OPEN_STATUSES:
+        return 0
+    again = requeue_stale(run)
+    run.refresh_from_db(fields=["status"])
+    if run.status in OPEN_STATUSES:
+        _watch_later(run_id)
+    return again
+
+
+@task()
+def work_out_chunk(chunk_id: int) -> dict:
+    items = services.chunk_claim(chunk_id=chunk_id)
+    if items is None:
+        return {"chunk": chunk_id, "written": False}
+    with _Heartbeat(chunk_id):
+        results, engine_seconds = answer_chunk(items)
+    written = services.chunk_finish(chunk_id=chunk_id, results=results, engine_seconds=engine_seconds)
+    run = PortfolioRun.objects.filter(chunks__pk=chunk_id).first() if written else None
+    if run is not None and run.status in OPEN_STATUSES:
+        requeue_stale(run)
+    return {"chunk": chunk_id, "written": written, "engine_seconds": engine_seconds}
+
+
+def answer_chunk(items) -> tuple[list[PortfolioResult], float]:
+    """Every item's result row (unsaved), and the seconds spent inside the engine."""
+    built, reasons = [], {}
+    for item in items:
+        try:
+            built.append((item, item_specs.to_item(item.spec)))
+        except (ValueError, KeyError, TypeError) as error:
+            reasons[item.pk] = f"not valid: {error}"
+    began = time.perf_counter()
+    outcomes = pf.answer_items([engine_item for _, engine_item in built], cap=settings.PORTFOLIO_ITEM_CAP)
+    engine_seconds = time.perf_counter() - began
+    answers = {item.pk: outcome for (item, _), outcome in zip(built, outcomes, strict=True)}
+    results = []
+    for item in items:
+        outcome = answers.get(item.pk)
+        if outcome is None or outcome.answer is None:
+            reason = reasons.get(item.pk) or outcome.reason
+            results.append(PortfolioResult(item=item, run_id=item.run_id, answered=False, reason=reason))
+            continue
+        figures = item_specs.figures(item.spec, outcome.answer)
+        results.append(PortfolioResult(item=item, run_id=item.run_id, answered=True, **vars(figures)))
+    return results, engine_seconds
+
+
+class _Heartbeat:
+    """Stamps the chunk's heartbeat every third of the lease from a side thread (its own connection)."""
+
+    def __init__(self, chunk_id: int):
+        self.chunk_id = chunk_id
+        self.stop = threading.Event()
+        self.thread = threading.Thread(target=self._beat, daemon=True)
+
+    def __enter__(self):
+        self.thread.start()
+        return self
+
+    def __exit__(self, *exc):
+        self.stop.set()
+        self.thread.join()
+
+    def _beat(self) -> None:
+        try:
+            while not self.stop.wait(settings.PORTFOLIO_LEASE_SECONDS / 3):
+                try:
+                    services.chunk_beat(chunk_id=self.chunk_id)
+                except DatabaseError as error:  # a busy SQLite file: the next beat tries again
+                    log.warning("heartbeat of chunk %s missed: %s", self.chunk_id, error)
+        finally:
+            connection.close()
