@@ -6,126 +6,207 @@ from django.db import migrations, models
 
 
 class Migration(migrations.Migration):
-
     dependencies = [
-        ('auth', '0012_alter_user_first_name_max_length'),
-        ('planner', '0007_versions_shares_links'),
+        ("auth", "0012_alter_user_first_name_max_length"),
+        ("planner", "0007_versions_shares_links"),
         migrations.swappable_dependency(settings.AUTH_USER_MODEL),
     ]
 
     operations = [
         migrations.CreateModel(
-            name='PortfolioChunk',
+            name="PortfolioChunk",
             fields=[
-                ('id', models.BigAutoField(auto_created=True, primary_key=True, serialize=False, verbose_name='ID')),
-                ('number', models.PositiveIntegerField()),
-                ('status', models.CharField(choices=[('waiting', 'Waiting'), ('running', 'Running'), ('done', 'Done'), ('failed', 'Failed'), ('cancelled', 'Cancelled')], default='waiting', max_length=10)),
-                ('items', models.PositiveIntegerField(default=0)),
-                ('answered', models.PositiveIntegerField(default=0)),
-                ('unanswered', models.PositiveIntegerField(default=0)),
-                ('attempts', models.PositiveIntegerField(default=0)),
-                ('heartbeat', models.DateTimeField(blank=True, null=True)),
-                ('engine_seconds', models.FloatField(default=0.0)),
+                ("id", models.BigAutoField(auto_created=True, primary_key=True, serialize=False, verbose_name="ID")),
+                ("number", models.PositiveIntegerField()),
+                (
+                    "status",
+                    models.CharField(
+                        choices=[
+                            ("waiting", "Waiting"),
+                            ("running", "Running"),
+                            ("done", "Done"),
+                            ("failed", "Failed"),
+                            ("cancelled", "Cancelled"),
+                        ],
+                        default="waiting",
+                        max_length=10,
+                    ),
+                ),
+                ("items", models.PositiveIntegerField(default=0)),
+                ("answered", models.PositiveIntegerField(default=0)),
+                ("unanswered", models.PositiveIntegerField(default=0)),
+                ("attempts", models.PositiveIntegerField(default=0)),
+                ("heartbeat", models.DateTimeField(blank=True, null=True)),
+                ("engine_seconds", models.FloatField(default=0.0)),
             ],
             options={
-                'ordering': ['run', 'number'],
+                "ordering": ["run", "number"],
             },
         ),
         migrations.CreateModel(
-            name='PortfolioRun',
+            name="PortfolioRun",
             fields=[
-                ('id', models.BigAutoField(auto_created=True, primary_key=True, serialize=False, verbose_name='ID')),
-                ('title', models.CharField(max_length=120)),
-                ('file_name', models.CharField(blank=True, max_length=255)),
-                ('status', models.CharField(choices=[('ready', 'Not started'), ('queued', 'Waiting for a worker'), ('running', 'Running'), ('finished', 'Finished'), ('cancelled', 'Cancelled'), ('failed', 'Stopped: some items were not worked out')], default='ready', max_length=12)),
-                ('rows', models.PositiveIntegerField(default=0)),
-                ('refused', models.PositiveIntegerField(default=0)),
-                ('queued', models.PositiveIntegerField(default=0)),
-                ('created', models.DateTimeField(auto_now_add=True)),
-                ('started', models.DateTimeField(blank=True, null=True)),
-                ('finished', models.DateTimeField(blank=True, null=True)),
-                ('owner', models.ForeignKey(on_delete=django.db.models.deletion.CASCADE, related_name='portfolio_runs', to=settings.AUTH_USER_MODEL)),
-                ('viewer_groups', models.ManyToManyField(blank=True, related_name='portfolio_views', to='auth.group')),
-                ('viewers', models.ManyToManyField(blank=True, related_name='portfolio_views', to=settings.AUTH_USER_MODEL)),
+                ("id", models.BigAutoField(auto_created=True, primary_key=True, serialize=False, verbose_name="ID")),
+                ("title", models.CharField(max_length=120)),
+                ("file_name", models.CharField(blank=True, max_length=255)),
+                (
+                    "status",
+                    models.CharField(
+                        choices=[
+                            ("ready", "Not started"),
+                            ("queued", "Waiting for a worker"),
+                            ("running", "Running"),
+                            ("finished", "Finished"),
+                            ("cancelled", "Cancelled"),
+                            ("failed", "Stopped: some items were not worked out"),
+                        ],
+                        default="ready",
+                        max_length=12,
+                    ),
+                ),
+                ("rows", models.PositiveIntegerField(default=0)),
+                ("refused", models.PositiveIntegerField(default=0)),
+                ("queued", models.PositiveIntegerField(default=0)),
+                ("created", models.DateTimeField(auto_now_add=True)),
+                ("started", models.DateTimeField(blank=True, null=True)),
+                ("finished", models.DateTimeField(blank=True, null=True)),
+                (
+                    "owner",
+                    models.ForeignKey(
+                        on_delete=django.db.models.deletion.CASCADE,
+                        related_name="portfolio_runs",
+                        to=settings.AUTH_USER_MODEL,
+                    ),
+                ),
+                ("viewer_groups", models.ManyToManyField(blank=True, related_name="portfolio_views", to="auth.group")),
+                (
+                    "viewers",
+                    models.ManyToManyField(blank=True, related_name="portfolio_views", to=settings.AUTH_USER_MODEL),
+                ),
             ],
             options={
-                'ordering': ['-created', '-id'],
+                "ordering": ["-created", "-id"],
             },
         ),
         migrations.CreateModel(
-            name='PortfolioItem',
+            name="PortfolioItem",
             fields=[
-                ('id', models.BigAutoField(auto_created=True, primary_key=True, serialize=False, verbose_name='ID')),
-                ('row', models.PositiveIntegerField()),
-                ('code', models.CharField(blank=True, max_length=200)),
-                ('description', models.CharField(blank=True, max_length=200)),
-                ('kind', models.CharField(blank=True, choices=[('stock', 'Stock plan'), ('reorder', 'Reorder plan'), ('spares', 'Spares pool')], max_length=8)),
-                ('period', models.CharField(blank=True, max_length=8)),
-                ('spec', models.JSONField(blank=True, null=True)),
-                ('refusal', models.TextField(blank=True)),
-                ('work', models.BigIntegerField(default=0)),
-                ('chunk', models.ForeignKey(blank=True, null=True, on_delete=django.db.models.deletion.SET_NULL, related_name='+', to='planner.portfoliochunk')),
-                ('run', models.ForeignKey(on_delete=django.db.models.deletion.CASCADE, related_name='items', to='planner.portfoliorun')),
+                ("id", models.BigAutoField(auto_created=True, primary_key=True, serialize=False, verbose_name="ID")),
+                ("row", models.PositiveIntegerField()),
+                ("code", models.CharField(blank=True, max_length=200)),
+                ("description", models.CharField(blank=True, max_length=200)),
+                (
+                    "kind",
+                    models.CharField(
+                        blank=True,
+                        choices=[("stock", "Stock plan"), ("reorder", "Reorder plan"), ("spares", "Spares pool")],
+                        max_length=8,
+                    ),
+                ),
+                ("period", models.CharField(blank=True, max_length=8)),
+                ("spec", models.JSONField(blank=True, null=True)),
+                ("refusal", models.TextField(blank=True)),
+                ("work", models.BigIntegerField(default=0)),
+                (
+                    "chunk",
+                    models.ForeignKey(
+                        blank=True,
+                        null=True,
+                        on_delete=django.db.models.deletion.SET_NULL,
+                        related_name="+",
+                        to="planner.portfoliochunk",
+                    ),
+                ),
+                (
+                    "run",
+                    models.ForeignKey(
+                        on_delete=django.db.models.deletion.CASCADE, related_name="items", to="planner.portfoliorun"
+                    ),
+                ),
             ],
             options={
-                'ordering': ['run', 'row'],
+                "ordering": ["run", "row"],
             },
         ),
         migrations.AddField(
-            model_name='portfoliochunk',
-            name='run',
-            field=models.ForeignKey(on_delete=django.db.models.deletion.CASCADE, related_name='chunks', to='planner.portfoliorun'),
+            model_name="portfoliochunk",
+            name="run",
+            field=models.ForeignKey(
+                on_delete=django.db.models.deletion.CASCADE, related_name="chunks", to="planner.portfoliorun"
+            ),
         ),
         migrations.CreateModel(
-            name='PortfolioResult',
+            name="PortfolioResult",
             fields=[
-                ('item', models.OneToOneField(on_delete=django.db.models.deletion.CASCADE, primary_key=True, related_name='result', serialize=False, to='planner.portfolioitem')),
-                ('answered', models.BooleanField()),
-                ('reason', models.TextField(blank=True)),
-                ('risk', models.FloatField(null=True)),
-                ('over_target', models.BooleanField(null=True)),
-                ('overflow', models.FloatField(null=True)),
-                ('smallest_start', models.BigIntegerField(null=True)),
-                ('smallest_capacity', models.BigIntegerField(null=True)),
-                ('reorder_point', models.BigIntegerField(null=True)),
-                ('safety_stock', models.FloatField(null=True)),
-                ('achieved', models.FloatField(null=True)),
-                ('normal_reorder_point', models.BigIntegerField(null=True)),
-                ('availability', models.FloatField(null=True)),
-                ('smallest_spares', models.BigIntegerField(null=True)),
-                ('run', models.ForeignKey(on_delete=django.db.models.deletion.CASCADE, related_name='results', to='planner.portfoliorun')),
+                (
+                    "item",
+                    models.OneToOneField(
+                        on_delete=django.db.models.deletion.CASCADE,
+                        primary_key=True,
+                        related_name="result",
+                        serialize=False,
+                        to="planner.portfolioitem",
+                    ),
+                ),
+                ("answered", models.BooleanField()),
+                ("reason", models.TextField(blank=True)),
+                ("risk", models.FloatField(null=True)),
+                ("over_target", models.BooleanField(null=True)),
+                ("overflow", models.FloatField(null=True)),
+                ("smallest_start", models.BigIntegerField(null=True)),
+                ("smallest_capacity", models.BigIntegerField(null=True)),
+                ("reorder_point", models.BigIntegerField(null=True)),
+                ("safety_stock", models.FloatField(null=True)),
+                ("achieved", models.FloatField(null=True)),
+                ("normal_reorder_point", models.BigIntegerField(null=True)),
+                ("availability", models.FloatField(null=True)),
+                ("smallest_spares", models.BigIntegerField(null=True)),
+                (
+                    "run",
+                    models.ForeignKey(
+                        on_delete=django.db.models.deletion.CASCADE, related_name="results", to="planner.portfoliorun"
+                    ),
+                ),
             ],
         ),
         migrations.AddConstraint(
-            model_name='portfoliorun',
-            constraint=models.CheckConstraint(condition=models.Q(('title', ''), _negated=True), name='portfolio_title_not_empty'),
+            model_name="portfoliorun",
+            constraint=models.CheckConstraint(
+                condition=models.Q(("title", ""), _negated=True), name="portfolio_title_not_empty"
+            ),
         ),
         migrations.AddConstraint(
-            model_name='portfoliorun',
-            constraint=models.CheckConstraint(condition=models.Q(('status__in', ['ready', 'queued', 'running', 'finished', 'cancelled', 'failed'])), name='portfolio_status_known'),
+            model_name="portfoliorun",
+            constraint=models.CheckConstraint(
+                condition=models.Q(("status__in", ["ready", "queued", "running", "finished", "cancelled", "failed"])),
+                name="portfolio_status_known",
+            ),
         ),
         migrations.AddIndex(
-            model_name='portfolioitem',
-            index=models.Index(fields=['chunk'], name='portfolio_item_chunk'),
+            model_name="portfolioitem",
+            index=models.Index(fields=["chunk"], name="portfolio_item_chunk"),
         ),
         migrations.AddConstraint(
-            model_name='portfolioitem',
-            constraint=models.UniqueConstraint(fields=('run', 'row'), name='portfolio_item_row_unique'),
+            model_name="portfolioitem",
+            constraint=models.UniqueConstraint(fields=("run", "row"), name="portfolio_item_row_unique"),
         ),
         migrations.AddIndex(
-            model_name='portfoliochunk',
-            index=models.Index(fields=['run', 'status'], name='portfolio_chunk_run_status'),
+            model_name="portfoliochunk",
+            index=models.Index(fields=["run", "status"], name="portfolio_chunk_run_status"),
         ),
         migrations.AddConstraint(
-            model_name='portfoliochunk',
-            constraint=models.UniqueConstraint(fields=('run', 'number'), name='portfolio_chunk_unique'),
+            model_name="portfoliochunk",
+            constraint=models.UniqueConstraint(fields=("run", "number"), name="portfolio_chunk_unique"),
         ),
         migrations.AddConstraint(
-            model_name='portfoliochunk',
-            constraint=models.CheckConstraint(condition=models.Q(('status__in', ['waiting', 'running', 'done', 'failed', 'cancelled'])), name='portfolio_chunk_status_known'),
+            model_name="portfoliochunk",
+            constraint=models.CheckConstraint(
+                condition=models.Q(("status__in", ["waiting", "running", "done", "failed", "cancelled"])),
+                name="portfolio_chunk_status_known",
+            ),
         ),
         migrations.AddIndex(
-            model_name='portfolioresult',
-            index=models.Index(fields=['run', 'over_target'], name='portfolio_result_over'),
+            model_name="portfolioresult",
+            index=models.Index(fields=["run", "over_target"], name="portfolio_result_over"),
         ),
     ]

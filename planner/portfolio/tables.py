@@ -7,6 +7,7 @@ Every row of the file appears once: worked out (its figures), not worked out
 from __future__ import annotations
 
 from django import forms
+from django.core.exceptions import ObjectDoesNotExist
 from django.core.paginator import Paginator
 from django.db.models import F, Q
 
@@ -68,7 +69,7 @@ def csv_rows(rows):
     """The header, then one list per item (numbers as numbers, empty where a figure does not apply)."""
     yield list(HEADER)
     for item in rows.iterator(chunk_size=2000):
-        result = getattr(item, "result", None)
+        result = _result(item)
         reason = item.refusal or (result.reason if result else "not worked out yet")
         if result is None or not result.answered:
             yield [item.row, item.code, item.description, item.kind, item.period, "no"] + [None] * 11 + [reason]
@@ -82,9 +83,29 @@ def csv_rows(rows):
         ]  # fmt: skip
 
 
+def _result(item):
+    """The item's result, or None before it has one (no query: it came with ``select_related``)."""
+    try:
+        return item.result
+    except ObjectDoesNotExist:
+        return None
+
+
+def page_cells(item) -> dict:
+    """What the page's table shows for one item: its headline risk, over target or not, the answer."""
+    result = _result(item)
+    risk = result.risk if result is not None else None
+    over = result.over_target if result is not None else None
+    return {
+        "risk": "—" if risk is None else formatting.probability(risk),
+        "over": "—" if over is None else ("yes" if over else "no"),
+        "answer": answer_words(item),
+    }
+
+
 def answer_words(item) -> str:
     """The row's answer in a few words, for the page's table."""
-    result = getattr(item, "result", None)
+    result = _result(item)
     if item.refusal:
         return item.refusal
     if result is None:

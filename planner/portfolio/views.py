@@ -61,7 +61,7 @@ def portfolio_detail(request, pk: int):
     table = tables.ResultsFilter(request.GET or None)
     rows = tables.page(table.rows(run), request.GET.get("page"))
     for item in rows:
-        item.answer = tables.answer_words(item)
+        item.cells = tables.page_cells(item)
     chart = charts.risk_chart(run) if run.status != RunStatus.READY else None
     context = {
         "run": run,
