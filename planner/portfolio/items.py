@@ -8,6 +8,7 @@ database is refused with the engine's message rather than computed.
 
 from __future__ import annotations
 
+import json
 import math
 from dataclasses import dataclass
 
@@ -17,14 +18,35 @@ from walkmath import portfolio as pf
 from walkmath.cost import ComputeTooLarge, Work
 
 
-def to_item(spec: dict) -> pf.StockItem | pf.ReorderItem | pf.SparesItem:
-    """The engine's item for a stored spec; ValueError naming the parameter when it is not valid."""
+class Laws:
+    """Step laws built once per chunk and shared by its items (many rows repeat a demand law: building
+    a Poisson law costs a few milliseconds of tail searches, more than pricing the item)."""
+
+    def __init__(self):
+        self.built: dict = {}
+
+    def count(self, data: dict) -> wm.StepLaw:
+        key = json.dumps(data, sort_keys=True)
+        if key not in self.built:
+            self.built[key] = CountLaw.from_json(data).law()
+        return self.built[key]
+
+    def net(self, supply: dict | None, demand: dict) -> wm.StepLaw:
+        key = ("net", json.dumps(supply, sort_keys=True), json.dumps(demand, sort_keys=True))
+        if key not in self.built:
+            arrivals = self.count(supply) if supply else wm.StepLaw.fixed(0)
+            self.built[key] = wm.StepLaw.net(arrivals=arrivals, demand=self.count(demand))
+        return self.built[key]
+
+
+def to_item(spec: dict, laws: Laws | None = None) -> pf.StockItem | pf.ReorderItem | pf.SparesItem:
+    """The engine's item for a stored spec (its laws from ``laws`` when given); ValueError naming the
+    parameter when it is not valid."""
+    laws = laws or Laws()
     kind = spec["kind"]
     if kind == "stock":
-        demand = CountLaw.from_json(spec["demand"]).law()
-        supply = CountLaw.from_json(spec["supply"]).law() if spec.get("supply") else wm.StepLaw.fixed(0)
         return pf.StockItem(
-            laws=(wm.StepLaw.net(arrivals=supply, demand=demand),),
+            laws=(laws.net(spec.get("supply"), spec["demand"]),),
             start=spec["start"],
             horizon=spec["horizon"],
             stockout_target=spec["stockout_target"],
@@ -36,7 +58,7 @@ def to_item(spec: dict) -> pf.StockItem | pf.ReorderItem | pf.SparesItem:
         )
     if kind == "reorder":
         return pf.ReorderItem(
-            demand=CountLaw.from_json(spec["demand"]).law(),
+            demand=laws.count(spec["demand"]),
             lead_time=spec["lead_time"],
             target=spec["target"],
             measure=spec["measure"],
@@ -65,17 +87,19 @@ def item_work(item) -> Work | None:
     return None
 
 
-def refusal(spec: dict, cap: int) -> tuple[str, int]:
-    """("", work units) for an item the engine may work out within ``cap``; otherwise (the reason, 0)."""
+def priced(spec: dict, cap: int, laws: Laws) -> tuple[object | None, str]:
+    """(the engine's item, "") when the engine may work it out within ``cap`` (priced by its cost model,
+    nothing run); otherwise (None, the reason)."""
     try:
-        work = item_work(to_item(spec))
+        item = to_item(spec, laws)
+        work = item_work(item)
         if work is not None:
             work.check(cap)
     except ComputeTooLarge as error:
-        return f"too large to work out: {error}", 0
+        return None, f"too large to work out: {error}"
     except (ValueError, KeyError, TypeError) as error:
-        return f"not valid: {error}", 0
-    return "", work.units if work is not None else 0
+        return None, f"not valid: {error}"
+    return item, ""
 
 
 @dataclass(frozen=True)

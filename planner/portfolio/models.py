@@ -102,8 +102,7 @@ class PortfolioItem(models.Model):
     kind = models.CharField(max_length=8, choices=ItemKind.choices, blank=True)
     period = models.CharField(max_length=8, blank=True)
     spec = models.JSONField(null=True, blank=True)  # None for a refused row
-    refusal = models.TextField(blank=True)  # why it is not worked out: a bad row, or over the cap
-    work = models.BigIntegerField(default=0)  # the engine's price, in work units
+    refusal = models.TextField(blank=True)  # why it is not worked out: a bad row in the file
     chunk = models.ForeignKey(PortfolioChunk, null=True, blank=True, on_delete=models.SET_NULL, related_name="+")
 
     class Meta:

@@ -17,7 +17,6 @@ from django.db import transaction
 from django.db.models import Q, Sum
 from django.utils import timezone
 
-from planner.portfolio import items as item_specs
 from planner.portfolio.items_file import ItemsFile
 from planner.portfolio.models import (
     OPEN_STATUSES,
@@ -31,16 +30,12 @@ from planner.portfolio.models import (
 
 
 def run_create(*, owner, title: str, parsed: ItemsFile, file_name: str = "") -> PortfolioRun:
-    """Store every row of ``parsed`` (bad rows with their message; good rows priced by the engine's cost
-    model, those over ``PORTFOLIO_ITEM_CAP`` with the reason). Nothing is queued yet (``run_start``)."""
-    cap = settings.PORTFOLIO_ITEM_CAP
-    rows = []
-    for row in parsed.rows:
-        refusal, work = (row.problem, 0) if row.spec is None else item_specs.refusal(row.spec, cap)
-        rows.append((row, refusal, work))
+    """Store every row of ``parsed``, bad rows with their message. Nothing is queued yet (``run_start``);
+    each good row is priced by the engine's cost model in the worker, before any engine work (building
+    the laws a price needs takes milliseconds an item: too long for the upload's request)."""
     with transaction.atomic():
-        run = PortfolioRun(owner=owner, title=title, file_name=file_name[:255], rows=len(rows))
-        run.refused = sum(1 for _, refusal, _ in rows if refusal)
+        run = PortfolioRun(owner=owner, title=title, file_name=file_name[:255], rows=len(parsed.rows))
+        run.refused = len(parsed.bad)
         run.full_clean()
         run.save()
         PortfolioItem.objects.bulk_create(
@@ -53,11 +48,10 @@ def run_create(*, owner, title: str, parsed: ItemsFile, file_name: str = "") -> 
                     kind=row.kind,
                     period=row.period,
                     spec=row.spec,
-                    refusal=refusal,
-                    work=work,
+                    refusal=row.problem,
                 )
-                for row, refusal, work in rows
-            ],  # fmt: skip
+                for row in parsed.rows
+            ],
             batch_size=2000,
         )
     return run

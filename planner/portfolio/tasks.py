@@ -84,14 +84,17 @@ def work_out_chunk(chunk_id: int) -> dict:
 
 
 def answer_chunk(items) -> tuple[list[PortfolioResult], float]:
-    """Every item's result row (unsaved), and the seconds spent inside the engine."""
-    built, reasons = [], {}
-    for item in items:
-        try:
-            built.append((item, item_specs.to_item(item.spec)))
-        except (ValueError, KeyError, TypeError) as error:
-            reasons[item.pk] = f"not valid: {error}"
+    """Every item's result row (unsaved), and the seconds spent inside the engine.
+
+    Each item is priced by the engine's cost model first; one over ``PORTFOLIO_ITEM_CAP`` gets its
+    reason and is not run. Laws are built once per chunk and shared by the items that repeat them.
+    """
     began = time.perf_counter()
+    built, reasons, laws = [], {}, item_specs.Laws()
+    for item in items:
+        engine_item, reasons[item.pk] = item_specs.priced(item.spec, settings.PORTFOLIO_ITEM_CAP, laws)
+        if engine_item is not None:
+            built.append((item, engine_item))
     outcomes = pf.answer_items([engine_item for _, engine_item in built], cap=settings.PORTFOLIO_ITEM_CAP)
     engine_seconds = time.perf_counter() - began
     answers = {item.pk: outcome for (item, _), outcome in zip(built, outcomes, strict=True)}

@@ -43,13 +43,19 @@ def test_run_on_the_database_queue_equals_the_engine_item_by_item(owner):
     assert bad.refusal.startswith("Row 14, column lead time: -3 is out of range")
 
 
-def test_an_item_over_the_cap_is_reported_not_queued(owner, settings):
+def test_an_item_over_the_cap_is_priced_reported_and_not_run(owner, settings, monkeypatch):
     settings.PORTFOLIO_ITEM_CAP = 10**6  # below a 20-period stock item's price, above a reorder item's
-    run = services.run_create(owner=owner, title="Shelf", parsed=parsed(stock=2, reorder=1, spares=0, bad=0))
-    refused = PortfolioItem.objects.filter(run=run).exclude(refusal="")
-    assert sorted(refused.values_list("code", flat=True)) == ["BIN-0", "BIN-1"]
-    assert all(item.refusal.startswith("too large to work out:") for item in refused)
-    assert services.run_start(run=run).queued == 1
+    asked = []
+    answer_items = tasks.pf.answer_items
+    monkeypatch.setattr(tasks.pf, "answer_items", lambda items, cap: asked.extend(items) or answer_items(items, cap))
+    run = services.run_start(
+        run=services.run_create(owner=owner, title="Shelf", parsed=parsed(stock=2, reorder=1, spares=0, bad=0))
+    )
+    _drain()
+    refused = PortfolioResult.objects.filter(run=run, answered=False)
+    assert sorted(refused.values_list("item__code", flat=True)) == ["BIN-0", "BIN-1"]
+    assert all(result.reason.startswith("too large to work out:") for result in refused)
+    assert [type(item).__name__ for item in asked] == ["ReorderItem"]  # the engine never saw the stock items
 
 
 def test_a_chunk_finished_twice_is_written_once(owner):
