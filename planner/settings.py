@@ -255,7 +255,8 @@ _TASK_BACKENDS = {
 _tasks_backend = os.environ.get("PLANNER_TASKS_BACKEND", "database").strip()
 if _tasks_backend not in _TASK_BACKENDS:
     raise ImproperlyConfigured(f"PLANNER_TASKS_BACKEND must be database or immediate; got {_tasks_backend!r}")
-TASKS = {"default": {"BACKEND": _TASK_BACKENDS[_tasks_backend]}}
+# "benchmark": the queue `manage.py bench_portfolio` uses, so its workers take nothing else.
+TASKS = {"default": {"BACKEND": _TASK_BACKENDS[_tasks_backend], "QUEUES": ["default", "benchmark"]}}
 
 PORTFOLIO_CHUNK_ITEMS = _whole("PORTFOLIO_CHUNK_ITEMS", "200")
 PORTFOLIO_LEASE_SECONDS = _whole("PORTFOLIO_LEASE_SECONDS", "60")

@@ -8,6 +8,7 @@ database is refused with the engine's message rather than computed.
 
 from __future__ import annotations
 
+import functools
 import json
 import math
 from dataclasses import dataclass
@@ -17,10 +18,21 @@ from planner.count_law import CountLaw
 from walkmath import portfolio as pf
 from walkmath.cost import ComputeTooLarge, Work
 
+# Count laws a worker keeps across chunks (a portfolio repeats demand laws: building a Poisson law costs a
+# few milliseconds of tail searches, several times a reorder item's answer). Only laws of at most
+# ``KEPT_WIDTH`` counts are kept, so the cache holds at most about 16 MB.
+KEPT_LAWS = 1024
+KEPT_WIDTH = 2001
+
+
+@functools.lru_cache(maxsize=KEPT_LAWS)
+def _kept_count_law(key: str) -> wm.StepLaw:
+    return CountLaw.from_json(json.loads(key))._build(1.0)
+
 
 class Laws:
-    """Step laws built once per chunk and shared by its items (many rows repeat a demand law: building
-    a Poisson law costs a few milliseconds of tail searches, more than pricing the item)."""
+    """Step laws built once and shared by the items that repeat them (within a chunk; narrow count laws
+    across the worker's chunks too)."""
 
     def __init__(self):
         self.built: dict = {}
@@ -28,7 +40,9 @@ class Laws:
     def count(self, data: dict) -> wm.StepLaw:
         key = json.dumps(data, sort_keys=True)
         if key not in self.built:
-            self.built[key] = CountLaw.from_json(data).law()
+            law = CountLaw.from_json(data)
+            narrow = law.family == "fixed" or (law.family == "poisson" and law.mean <= 500)
+            self.built[key] = _kept_count_law(key) if narrow else law.law()
         return self.built[key]
 
     def net(self, supply: dict | None, demand: dict) -> wm.StepLaw:

@@ -81,6 +81,7 @@ class PortfolioChunk(models.Model):
     attempts = models.PositiveIntegerField(default=0)
     heartbeat = models.DateTimeField(null=True, blank=True)  # last sign of life of the worker on it
     engine_seconds = models.FloatField(default=0.0)  # time inside the engine, for the benchmark
+    task_id = models.CharField(max_length=64, blank=True)  # the queue's task for its latest try
 
     class Meta:
         ordering = ["run", "number"]

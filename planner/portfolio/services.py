@@ -11,6 +11,7 @@ written once: the second finisher sees it done and writes nothing.
 from __future__ import annotations
 
 import datetime
+import math
 
 from django.conf import settings
 from django.db import transaction
@@ -27,6 +28,8 @@ from planner.portfolio.models import (
     PortfolioRun,
     RunStatus,
 )
+
+MIN_CHUNKS = 8
 
 
 def run_create(*, owner, title: str, parsed: ItemsFile, file_name: str = "") -> PortfolioRun:
@@ -57,18 +60,20 @@ def run_create(*, owner, title: str, parsed: ItemsFile, file_name: str = "") -> 
     return run
 
 
-def run_start(*, run: PortfolioRun) -> PortfolioRun:
+def run_start(*, run: PortfolioRun, queue_name: str = "default") -> PortfolioRun:
     """Split the run's good rows into chunks of ``PORTFOLIO_CHUNK_ITEMS`` and queue one task each (after
     the transaction commits, so a worker never sees a chunk that is not there yet). A started run is left
     as it is."""
     from planner.portfolio import tasks
 
-    size = settings.PORTFOLIO_CHUNK_ITEMS
     with transaction.atomic():
         run = PortfolioRun.objects.select_for_update().get(pk=run.pk)
         if run.status != RunStatus.READY:
             return run
         good = list(run.items.filter(refusal="").order_by("row").values_list("pk", flat=True))
+        # At most PORTFOLIO_CHUNK_ITEMS items a chunk, and at least MIN_CHUNKS chunks, so that a small run of
+        # slow items is still shared by several workers.
+        size = max(1, min(settings.PORTFOLIO_CHUNK_ITEMS, math.ceil(len(good) / MIN_CHUNKS)))
         groups = [good[at : at + size] for at in range(0, len(good), size)]
         chunks = PortfolioChunk.objects.bulk_create(
             [PortfolioChunk(run=run, number=n, items=len(group)) for n, group in enumerate(groups)]
@@ -80,7 +85,7 @@ def run_start(*, run: PortfolioRun) -> PortfolioRun:
         run.finished = None if chunks else run.started
         run.save(update_fields=["queued", "started", "status", "finished"])
         ids = [chunk.pk for chunk in chunks]
-        transaction.on_commit(lambda: tasks.enqueue_run(run.pk, ids))
+        transaction.on_commit(lambda: tasks.enqueue_run(run.pk, ids, queue_name))
     return run
 
 
@@ -142,6 +147,18 @@ def chunk_claim(*, chunk_id: int) -> list[PortfolioItem] | None:
     return list(PortfolioItem.objects.filter(chunk_id=chunk_id).order_by("row"))
 
 
+def chunks_mark_queued(*, tasks: dict[int, str]) -> None:
+    """Note the queue's task id of each chunk (chunk id -> task id), to find tasks lost with their worker."""
+    for chunk_id, task_id in tasks.items():
+        PortfolioChunk.objects.filter(pk=chunk_id).update(task_id=task_id)
+
+
+def waiting_tasks(run: PortfolioRun) -> dict[str, int]:
+    """The queue's task id of each waiting chunk of ``run`` (task id -> chunk id)."""
+    rows = run.chunks.filter(status=ChunkStatus.WAITING).exclude(task_id="").values_list("task_id", "pk")
+    return dict(rows)
+
+
 def chunk_beat(*, chunk_id: int) -> None:
     """The worker on the chunk is alive (called every third of the lease while it works)."""
     PortfolioChunk.objects.filter(pk=chunk_id, status=ChunkStatus.RUNNING).update(heartbeat=timezone.now())
@@ -180,23 +197,26 @@ def _close_if_complete(run: PortfolioRun) -> None:
     run.save(update_fields=["status", "finished"])
 
 
-def chunks_requeue_stale(*, run: PortfolioRun) -> list[int]:
-    """Chunks of ``run`` whose worker has shown no sign of life for a lease: queued again (their ids are
-    returned; the caller enqueues them after commit), or, after ``PORTFOLIO_MAX_ATTEMPTS`` tries, given up
-    with every item's reason written so that no row goes missing."""
+def chunks_requeue_stale(*, run: PortfolioRun, lost: list[int] = ()) -> list[int]:
+    """Chunks of ``run`` whose worker has shown no sign of life for a lease, and the waiting chunks in
+    ``lost`` (their task was taken by a worker that died before it could claim the chunk): queued again
+    (their ids are returned; the caller enqueues them), or, after ``PORTFOLIO_MAX_ATTEMPTS`` tries, given
+    up with every item's reason written so that no row goes missing."""
     stale_before = timezone.now() - lease()
     with transaction.atomic():
         run = PortfolioRun.objects.select_for_update().get(pk=run.pk)
-        stale = run.chunks.select_for_update().filter(
-            Q(heartbeat__lt=stale_before) | Q(heartbeat__isnull=True), status=ChunkStatus.RUNNING
-        )
+        silent = Q(heartbeat__lt=stale_before) | Q(heartbeat__isnull=True), Q(status=ChunkStatus.RUNNING)
+        stale = list(run.chunks.select_for_update().filter(*silent))
+        for chunk in run.chunks.select_for_update().filter(pk__in=lost, status=ChunkStatus.WAITING):
+            chunk.attempts += 1  # a try that never reached the chunk
+            stale.append(chunk)
         again = []
         for chunk in stale:
             if chunk.attempts >= settings.PORTFOLIO_MAX_ATTEMPTS:
                 _give_up(chunk)
             else:
                 chunk.status, chunk.heartbeat = ChunkStatus.WAITING, None
-                chunk.save(update_fields=["status", "heartbeat"])
+                chunk.save(update_fields=["status", "heartbeat", "attempts"])
                 again.append(chunk.pk)
         _close_if_complete(run)
     return again

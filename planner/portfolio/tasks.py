@@ -10,7 +10,8 @@ worker has claimed it, even when that worker is killed (its row stays
 "running"). So a chunk carries its own lease: while it works, the worker
 stamps the chunk's ``heartbeat`` every third of ``PORTFOLIO_LEASE_SECONDS``
 from a side thread; a chunk whose stamp is older than the lease is queued
-again (``services.chunks_requeue_stale``) by ``watch_run`` (a task that runs
+again (``services.chunks_requeue_stale``), as is a waiting chunk whose task a worker took
+and then died before it could claim the chunk, by ``watch_run`` (a task that runs
 once a lease while the run is open, when the backend can defer tasks), by the
 run page's progress poll, and by every chunk task as it starts. Its results
 are written once whatever happens: see ``services.chunk_finish``.
@@ -26,7 +27,9 @@ import time
 from django.conf import settings
 from django.db import DatabaseError, connection
 from django.utils import timezone
-from django_tasks import default_task_backend, task
+from django_tasks import DEFAULT_TASK_QUEUE_NAME, default_task_backend, task
+from django_tasks_db import DatabaseBackend
+from django_tasks_db.models import DBTaskResult
 
 from planner.portfolio import items as item_specs
 from planner.portfolio import services
@@ -36,10 +39,11 @@ from walkmath import portfolio as pf
 log = logging.getLogger(__name__)
 
 
-def enqueue_run(run_id: int, chunk_ids: list[int]) -> None:
-    """Queue every chunk of a run, then its watcher (when the backend can run a task later)."""
-    for chunk_id in chunk_ids:
-        work_out_chunk.enqueue(chunk_id)
+def enqueue_run(run_id: int, chunk_ids: list[int], queue_name: str = DEFAULT_TASK_QUEUE_NAME) -> None:
+    """Queue every chunk of a run on ``queue_name`` (the benchmark keeps its own), then the run's watcher
+    (when the backend can run a task later)."""
+    chunk_task = work_out_chunk.using(queue_name=queue_name)
+    services.chunks_mark_queued(tasks={chunk_id: chunk_task.enqueue(chunk_id).id for chunk_id in chunk_ids})
     _watch_later(run_id)
 
 
@@ -50,11 +54,25 @@ def _watch_later(run_id: int) -> None:
 
 
 def requeue_stale(run: PortfolioRun) -> int:
-    """Queue again the chunks of ``run`` whose worker went silent; how many."""
-    again = services.chunks_requeue_stale(run=run)
-    for chunk_id in again:
-        work_out_chunk.enqueue(chunk_id)
+    """Queue again the chunks of ``run`` whose worker went silent, and those whose task a worker took and
+    then died before claiming the chunk; how many."""
+    again = services.chunks_requeue_stale(run=run, lost=_lost_chunks(run))
+    services.chunks_mark_queued(tasks={chunk_id: work_out_chunk.enqueue(chunk_id).id for chunk_id in again})
     return len(again)
+
+
+def _lost_chunks(run: PortfolioRun) -> list[int]:
+    """Waiting chunks whose task a worker took more than a lease ago (the queue's row says running, or
+    finished) without the chunk ever being claimed: that worker died between the two. The database queue
+    keeps such a task "running" forever; it is asked in one query."""
+    if not isinstance(default_task_backend, DatabaseBackend):
+        return []
+    waiting = services.waiting_tasks(run)
+    if not waiting:
+        return []
+    taken_before = timezone.now() - datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS)
+    taken = DBTaskResult.objects.filter(id__in=list(waiting), started_at__lt=taken_before).exclude(status="READY")
+    return [waiting[str(task_id)] for task_id in taken.values_list("id", flat=True)]
 
 
 @task()
@@ -96,7 +114,7 @@ def answer_chunk(items) -> tuple[list[PortfolioResult], float]:
         if engine_item is not None:
             built.append((item, engine_item))
     outcomes = pf.answer_items([engine_item for _, engine_item in built], cap=settings.PORTFOLIO_ITEM_CAP)
-    engine_seconds = time.perf_counter() - began
+    engine_seconds = time.perf_counter() - began  # laws, prices and answers: all inside walkmath
     answers = {item.pk: outcome for (item, _), outcome in zip(built, outcomes, strict=True)}
     results = []
     for item in items:

@@ -12,6 +12,7 @@ from planner import services
 from planner.history.demo import load_demo_histories
 from planner.kinds import get_kind
 from planner.models import Scenario
+from planner.portfolio.demo import load_demo_portfolio
 
 DEMO_FILE = Path(settings.BASE_DIR) / "fixtures" / "demo_scenarios.json"
 
@@ -32,11 +33,13 @@ class Command(BaseCommand):
             for item in data["scenarios"]:
                 self._load(user, item)
             histories = load_demo_histories(user)
+            run = load_demo_portfolio(user)
         self.stdout.write(
             self.style.SUCCESS(
                 f"Demo account {'created' if created else 'refreshed'}: "
                 f"username {account['username']!r}, password {account['password']!r} "
-                f"({len(data['scenarios'])} scenarios, {histories} {'history' if histories == 1 else 'histories'})."
+                f"({len(data['scenarios'])} scenarios, {histories} {'history' if histories == 1 else 'histories'}, "
+                f"a portfolio run of {run.rows:,} items: {run.get_status_display().lower()})."
             )
         )
         if not settings.DEBUG:

@@ -62,8 +62,9 @@ def _wait_for(condition, seconds: float, what: str):
     pytest.fail(f"gave up waiting {seconds:g} s for {what}")
 
 
-def _running_task_of(worker: str):
-    return DBTaskResult.objects.filter(status="RUNNING", worker_ids__contains=[worker]).first()
+def _running_chunk_task_of(worker: str):
+    running = DBTaskResult.objects.filter(status="RUNNING", worker_ids__contains=[worker])
+    return running.filter(task_path__endswith=".work_out_chunk").first()
 
 
 def test_two_workers_one_killed_mid_chunk_every_row_once_and_equal_to_the_engine(owner):
@@ -72,11 +73,12 @@ def test_two_workers_one_killed_mid_chunk_every_row_once_and_equal_to_the_engine
     run = services.run_start(run=run)
     workers = {"alder": _worker("alder"), "birch": _worker("birch")}
     try:
-        killed_task = _wait_for(lambda: _running_task_of("alder"), 60, "worker alder to claim a chunk")
+        killed_task = _wait_for(lambda: _running_chunk_task_of("alder"), 60, "worker alder to claim a chunk")
         workers["alder"].send_signal(signal.SIGKILL)
         workers["alder"].wait(10)
         killed_task.refresh_from_db()
-        assert killed_task.status == "RUNNING"  # it died inside the chunk: the queue will never hand it out again
+        # It died with the task: the queue will never hand it out again (whether the chunk was claimed yet or not).
+        assert killed_task.status == "RUNNING"
 
         def closed():
             tasks.requeue_stale(run)  # what the run page's progress poll does
@@ -91,7 +93,7 @@ def test_two_workers_one_killed_mid_chunk_every_row_once_and_equal_to_the_engine
                 process.wait(10)
     assert run.status == RunStatus.FINISHED
     chunk = run.chunks.get(pk=killed_task.args_kwargs["args"][0])
-    assert chunk.attempts >= 2  # worked out again after its worker died
+    assert chunk.attempts >= 2 and chunk.status == "done"  # worked out again after its worker died
     results = PortfolioResult.objects.filter(run=run).select_related("item")
     assert results.count() == run.queued == 48  # none lost, none twice (the item is the result's primary key)
     assert sorted(results.values_list("item__row", flat=True)) == list(range(2, 50))
