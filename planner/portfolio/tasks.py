@@ -65,7 +65,7 @@ def _lost_chunks(run: PortfolioRun) -> list[int]:
     """Waiting chunks whose task a worker took more than a lease ago (the queue's row says running, or
     finished) without the chunk ever being claimed: that worker died between the two. The database queue
     keeps such a task "running" forever; it is asked in one query."""
-    if not isinstance(default_task_backend, DatabaseBackend):
+    if not isinstance(work_out_chunk.get_backend(), DatabaseBackend):
         return []
     waiting = services.waiting_tasks(run)
     if not waiting:
