@@ -13,7 +13,7 @@ import pytest
 from django.core.management import call_command
 
 from planner.portfolio.models import PortfolioRun
-from tests.browser.test_planner_flow import sign_in
+from tests.browser.test_planner_flow import no_sideways_scroll, sign_in
 from tests.planner.portfolio.helpers import portfolio_csv
 
 pytestmark = [pytest.mark.browser, pytest.mark.django_db(transaction=True)]
@@ -57,6 +57,12 @@ def test_upload_watch_progress_filter_and_download(page, live_server, owner, tmp
     assert page.inner_text("#progress-percent") == "100"
     assert len(seen) >= 3 and [int(n) for n in seen] == sorted(int(n) for n in seen)  # the bar moved in steps
     page.wait_for_selector("#fig-risk .main-svg")
+    page.set_viewport_size({"width": 390, "height": 900})  # a phone: the page stays within its width
+    page.reload()
+    page.wait_for_selector("#fig-risk .main-svg")
+    assert no_sideways_scroll(page)
+    page.set_viewport_size({"width": 1366, "height": 900})
+    page.reload()
 
     page.select_option("#results-filter select[name=kind]", "spares")
     page.click("#results-filter button[type=submit]")
