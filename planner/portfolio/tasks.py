@@ -13,7 +13,7 @@ from a side thread; a chunk whose stamp is older than the lease is queued
 again (``services.chunks_requeue_stale``), as is a waiting chunk whose task a worker took
 and then died before it could claim the chunk, by ``watch_run`` (a task that runs
 once a lease while the run is open, when the backend can defer tasks), by the
-run page's progress poll, and by every chunk task as it starts. Its results
+run page's progress poll, and by every chunk task once it has written its results. Its results
 are written once whatever happens: see ``services.chunk_finish``.
 """
 
