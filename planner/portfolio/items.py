@@ -40,9 +40,9 @@ class Laws:
     def count(self, data: dict) -> wm.StepLaw:
         key = json.dumps(data, sort_keys=True)
         if key not in self.built:
-            law = CountLaw.from_json(data)
-            narrow = law.family == "fixed" or (law.family == "poisson" and law.mean <= 500)
-            self.built[key] = _kept_count_law(key) if narrow else law.law()
+            family, mean = data.get("family"), data.get("mean")
+            narrow = family == "fixed" or (family == "poisson" and isinstance(mean, int | float) and mean <= 500)
+            self.built[key] = _kept_count_law(key) if narrow else CountLaw.from_json(data).law()
         return self.built[key]
 
     def net(self, supply: dict | None, demand: dict) -> wm.StepLaw:
