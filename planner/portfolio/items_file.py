@@ -36,10 +36,20 @@ from django import forms
 from planner.count_law import MAX_MEAN, MAX_VARIANCE, CountLaw
 from planner.form_fields import parse_percent
 from planner.formatting import PERIODS
-from planner.kinds.reorder_plan.params import MAX_LEAD_TIME, MAX_ORDER_QUANTITY, MAX_REVIEW_PERIOD
-from planner.kinds.spares_pool.params import MAX_CREWS, MAX_SPARES, MAX_UNITS, MAX_VALUE, MIN_VALUE
-from planner.kinds.stock_plan.params import MAX_HORIZON, MAX_LEVEL
 from walkmath import checks
+
+# The ranges of the kinds' forms (planner/kinds/*/params.py; this package never imports a kind, and a test
+# checks that the two agree).
+MAX_HORIZON = 3650
+MAX_LEVEL = 1_000_000
+MAX_LEAD_TIME = 365
+MAX_REVIEW_PERIOD = 365
+MAX_ORDER_QUANTITY = 1_000_000
+MAX_UNITS = 5_000
+MAX_SPARES = 5_000
+MAX_CREWS = 1_000
+MIN_VALUE = 1e-9
+MAX_VALUE = 1e9
 
 # Largest file accepted (about 100,000 rows of a dozen numbers); a larger one is refused unread.
 MAX_BYTES = 8 * 2**20

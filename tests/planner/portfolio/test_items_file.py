@@ -128,3 +128,18 @@ def test_a_50_megabyte_file_is_refused_before_it_is_read_whole():
     with pytest.raises(ItemsFileError, match="larger than 8 MB"):
         read_items(source)
     assert source.given <= MAX_BYTES + 64 * 1024  # the limit and at most one more chunk
+
+
+def test_the_ranges_are_the_kinds_own():
+    from planner.kinds.reorder_plan import params as reorder
+    from planner.kinds.spares_pool import params as spares
+    from planner.kinds.stock_plan import params as stock
+    from planner.portfolio import items_file
+
+    for module, names in (
+        (stock, ("MAX_HORIZON", "MAX_LEVEL")),
+        (reorder, ("MAX_LEAD_TIME", "MAX_REVIEW_PERIOD", "MAX_ORDER_QUANTITY")),
+        (spares, ("MAX_UNITS", "MAX_SPARES", "MAX_CREWS", "MIN_VALUE", "MAX_VALUE")),
+    ):
+        for name in names:
+            assert getattr(items_file, name) == getattr(module, name), name
