@@ -1,6 +1,8 @@
 # Two commands do all set-up on a fresh machine:
 #   make run   - creates .venv if missing, migrates SQLite, loads demo data, serves on :8000
-#                with DEBUG off as in production (own error pages, static files through WhiteNoise);
+#                with DEBUG off as in production (own error pages, static files through WhiteNoise),
+#                and starts one background worker beside the server (manage.py db_worker: portfolio
+#                runs; it stops with the server);
 #                the secret key is generated once into .secret_key (git-ignored). DEBUG=1 make run
 #                gives Django's debug pages instead.
 #   make test  - creates .venv if missing, runs the whole suite (lint included)
@@ -27,7 +29,9 @@ run: $(BIN)/.installed $(SECRET_KEY_FILE)
 	$(RUN_ENV) $(BIN)/python manage.py migrate --noinput
 	$(RUN_ENV) $(BIN)/python manage.py load_demo
 	$(RUN_ENV) $(BIN)/python manage.py collectstatic --noinput --verbosity 0
-	$(RUN_ENV) $(BIN)/python manage.py runserver $(HOST)
+	$(RUN_ENV) $(BIN)/python manage.py db_worker --no-reload --verbosity 0 & worker=$$!; \
+	  trap 'kill $$worker 2>/dev/null' EXIT INT TERM; \
+	  $(RUN_ENV) $(BIN)/python manage.py runserver $(HOST)
 
 test: $(BIN)/.installed
 	$(BIN)/ruff check walkmath planner tests

@@ -7,6 +7,17 @@ DATABASE_URL    default: SQLite file db.sqlite3 beside manage.py
 ALLOWED_HOSTS   comma-separated, default "localhost,127.0.0.1,[::1]"
 PLANNER_COMPUTE_CAP  largest work one web request computes, in walkmath cost units, default 1200000000
 
+Portfolio runs (README, "Portfolio runs"):
+PLANNER_TASKS_BACKEND      "database" (default: a queue in the database, worked by `manage.py db_worker`
+                           processes; `make run` starts one) or "immediate" (work out a run inside the
+                           request that starts it: no worker, for a quick look only)
+PORTFOLIO_CHUNK_ITEMS      items in one chunk (one background task), default 200
+PORTFOLIO_LEASE_SECONDS    seconds a chunk's worker may stay silent before the chunk is handed out again,
+                           default 60 (a working worker signs every third of it)
+PORTFOLIO_MAX_ATTEMPTS     tries of one chunk before its rows are written as not worked out, default 3
+PORTFOLIO_ITEM_CAP         largest work of one item, in walkmath cost units, default 20000000000 (the
+                           engine's own cap); an item over it is reported, not run
+
 Behind TLS (README, "Deployment"); every default suits plain local http (`make run`):
 SECURE_SSL_REDIRECT             1/0, default 0: redirect http to https
 SESSION_COOKIE_SECURE           1/0, default 0: send the session cookie over https only
@@ -132,6 +143,8 @@ INSTALLED_APPS = [
     "whitenoise.runserver_nostatic",
     "django.contrib.staticfiles",
     "axes",
+    "django_tasks",
+    "django_tasks_db",
     "ninja",  # serves the API documentation page's scripts from our static files (no CDN)
     "planner",
 ]
@@ -173,7 +186,14 @@ try:
     DATABASES = {
         "default": dj_database_url.parse(_database_url, conn_max_age=60)
         if _database_url
-        else {"ENGINE": "django.db.backends.sqlite3", "NAME": BASE_DIR / "db.sqlite3"}
+        else {
+            "ENGINE": "django.db.backends.sqlite3",
+            "NAME": BASE_DIR / "db.sqlite3",
+            # The web server and the local worker share the file: writers wait for each other (timeout, in
+            # seconds) and take the write lock when a transaction begins (IMMEDIATE), so a transaction that
+            # reads then writes is never refused halfway.
+            "OPTIONS": {"timeout": 30, "transaction_mode": "IMMEDIATE"},
+        }
     }
 except ValueError as exc:
     raise ImproperlyConfigured(f"DATABASE_URL is malformed: {exc}") from exc
@@ -227,3 +247,18 @@ STORAGES = {
 # measured about 1.5e9 a second here), summed over every engine call the page makes. The default keeps the
 # most expensive page a signed-in user can ask for under about 2 s (README, "Settings").
 PLANNER_COMPUTE_CAP = _whole("PLANNER_COMPUTE_CAP", "1200000000")
+
+_TASK_BACKENDS = {
+    "database": "django_tasks_db.DatabaseBackend",
+    "immediate": "django_tasks.backends.immediate.ImmediateBackend",
+}
+_tasks_backend = os.environ.get("PLANNER_TASKS_BACKEND", "database").strip()
+if _tasks_backend not in _TASK_BACKENDS:
+    raise ImproperlyConfigured(f"PLANNER_TASKS_BACKEND must be database or immediate; got {_tasks_backend!r}")
+# "benchmark": the queue `manage.py bench_portfolio` uses, so its workers take nothing else.
+TASKS = {"default": {"BACKEND": _TASK_BACKENDS[_tasks_backend], "QUEUES": ["default", "benchmark"]}}
+
+PORTFOLIO_CHUNK_ITEMS = _whole("PORTFOLIO_CHUNK_ITEMS", "200")
+PORTFOLIO_LEASE_SECONDS = _whole("PORTFOLIO_LEASE_SECONDS", "60")
+PORTFOLIO_MAX_ATTEMPTS = _whole("PORTFOLIO_MAX_ATTEMPTS", "3")
+PORTFOLIO_ITEM_CAP = _whole("PORTFOLIO_ITEM_CAP", "20000000000")

@@ -33,6 +33,7 @@ urlpatterns = [
     path("view/<slug:token>/csv/<slug:table>.csv", views.link_csv, name="link_csv"),
     path("histories/", include("planner.history.urls")),
     path("repair-logs/", include("planner.repairlog.urls")),
+    path("portfolios/", include("planner.portfolio.urls")),
     path("kinds/<slug:kind>/preview.json", views.kind_preview, name="kind_preview"),
     path("accounts/login/", auth_views.LoginView.as_view(redirect_authenticated_user=True), name="login"),
     path("accounts/logout/", auth_views.LogoutView.as_view(), name="logout"),

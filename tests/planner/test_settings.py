@@ -27,6 +27,11 @@ READ = {
     "PLANNER_PROXY_COUNT",
     "AXES_FAILURE_LIMIT",
     "AXES_COOLOFF_TIME",
+    "PLANNER_TASKS_BACKEND",
+    "PORTFOLIO_CHUNK_ITEMS",
+    "PORTFOLIO_LEASE_SECONDS",
+    "PORTFOLIO_MAX_ATTEMPTS",
+    "PORTFOLIO_ITEM_CAP",
 }
 
 
@@ -113,6 +118,9 @@ def test_database_url_switches_to_postgresql():
         ({"DEBUG": "1", "AXES_FAILURE_LIMIT": "0"}, "AXES_FAILURE_LIMIT must be a whole number at least 1"),
         ({"DEBUG": "1", "AXES_COOLOFF_TIME": "0"}, "AXES_COOLOFF_TIME must be a number of hours above 0"),
         ({"DEBUG": "1", "AXES_COOLOFF_TIME": "15m"}, "AXES_COOLOFF_TIME must be a number of hours above 0"),
+        ({"DEBUG": "1", "PLANNER_TASKS_BACKEND": "redis"}, "PLANNER_TASKS_BACKEND must be database or immediate"),
+        ({"DEBUG": "1", "PORTFOLIO_CHUNK_ITEMS": "0"}, "PORTFOLIO_CHUNK_ITEMS must be a whole number at least 1"),
+        ({"DEBUG": "1", "PORTFOLIO_LEASE_SECONDS": "1m"}, "PORTFOLIO_LEASE_SECONDS must be a whole number"),
     ],
 )
 def test_bad_settings_fail_loudly(env, message):
@@ -215,3 +223,12 @@ def test_check_deploy_names_what_is_missing_without_them():
     assert done.returncode != 0
     for warning in ("security.W004", "security.W008", "security.W012", "security.W016"):
         assert warning in done.stderr
+
+
+def test_portfolio_runs_default_to_the_database_queue():
+    values = read_settings("TASKS", "PORTFOLIO_CHUNK_ITEMS", "PORTFOLIO_LEASE_SECONDS", "INSTALLED_APPS", DEBUG="1")
+    assert values["TASKS"]["default"]["BACKEND"] == "django_tasks_db.DatabaseBackend"
+    assert {"django_tasks", "django_tasks_db"} <= set(values["INSTALLED_APPS"])
+    assert values["PORTFOLIO_CHUNK_ITEMS"] == 200 and values["PORTFOLIO_LEASE_SECONDS"] == 60
+    immediate = read_settings("TASKS", DEBUG="1", PLANNER_TASKS_BACKEND="immediate")["TASKS"]
+    assert immediate["default"]["BACKEND"] == "django_tasks.backends.immediate.ImmediateBackend"

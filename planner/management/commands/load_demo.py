@@ -12,6 +12,7 @@ from planner import services
 from planner.history.demo import load_demo_histories
 from planner.kinds import get_kind
 from planner.models import Scenario
+from planner.portfolio.demo import load_demo_portfolio
 from planner.repairlog.demo import load_demo_repair_logs
 
 DEMO_FILE = Path(settings.BASE_DIR) / "fixtures" / "demo_scenarios.json"
@@ -34,12 +35,14 @@ class Command(BaseCommand):
                 self._load(user, item)
             histories = load_demo_histories(user)
             repair_logs = load_demo_repair_logs(user)
+            run = load_demo_portfolio(user)
         self.stdout.write(
             self.style.SUCCESS(
                 f"Demo account {'created' if created else 'refreshed'}: "
                 f"username {account['username']!r}, password {account['password']!r} "
                 f"({len(data['scenarios'])} scenarios, {histories} {'history' if histories == 1 else 'histories'}, "
-                f"{repair_logs} repair {'log' if repair_logs == 1 else 'logs'})."
+                f"{repair_logs} repair {'log' if repair_logs == 1 else 'logs'}, "
+                f"a portfolio run of {run.rows:,} items: {run.get_status_display().lower()})."
             )
         )
         if not settings.DEBUG:

@@ -1,0 +1,256 @@
+"""Writes of portfolio runs (``noun_verb``, keyword-only): create from a read file, start, cancel, share,
+and the workers' side: claim a chunk, finish it, hand out again the chunks of workers that stopped.
+
+Lock order, everywhere: the run's row before a chunk's row (no two transactions
+wait on each other). A chunk's results and its mark "done" are written in one
+transaction; the database holds at most one result per item
+(``PortfolioResult.item`` is its primary key), so a chunk worked out twice is
+written once: the second finisher sees it done and writes nothing.
+"""
+
+from __future__ import annotations
+
+import datetime
+import math
+
+from django.conf import settings
+from django.db import transaction
+from django.db.models import Q, Sum
+from django.utils import timezone
+
+from planner.portfolio.items_file import ItemsFile
+from planner.portfolio.models import (
+    OPEN_STATUSES,
+    ChunkStatus,
+    PortfolioChunk,
+    PortfolioItem,
+    PortfolioResult,
+    PortfolioRun,
+    RunStatus,
+)
+
+MIN_CHUNKS = 8
+
+
+def run_create(*, owner, title: str, parsed: ItemsFile, file_name: str = "") -> PortfolioRun:
+    """Store every row of ``parsed``, bad rows with their message. Nothing is queued yet (``run_start``);
+    each good row is priced by the engine's cost model in the worker, before any engine work (building
+    the laws a price needs takes milliseconds an item: too long for the upload's request)."""
+    with transaction.atomic():
+        run = PortfolioRun(owner=owner, title=title, file_name=file_name[:255], rows=len(parsed.rows))
+        run.refused = len(parsed.bad)
+        run.full_clean()
+        run.save()
+        PortfolioItem.objects.bulk_create(
+            [
+                PortfolioItem(
+                    run=run,
+                    row=row.row,
+                    code=row.code,
+                    description=row.description,
+                    kind=row.kind,
+                    period=row.period,
+                    spec=row.spec,
+                    refusal=row.problem,
+                )
+                for row in parsed.rows
+            ],
+            batch_size=2000,
+        )
+    return run
+
+
+def run_start(*, run: PortfolioRun, queue_name: str = "default") -> PortfolioRun:
+    """Split the run's good rows into chunks of ``PORTFOLIO_CHUNK_ITEMS`` and queue one task each (after
+    the transaction commits, so a worker never sees a chunk that is not there yet). A started run is left
+    as it is."""
+    from planner.portfolio import tasks
+
+    with transaction.atomic():
+        run = PortfolioRun.objects.select_for_update().get(pk=run.pk)
+        if run.status != RunStatus.READY:
+            return run
+        good = list(run.items.filter(refusal="").order_by("row").values_list("pk", flat=True))
+        # At most PORTFOLIO_CHUNK_ITEMS items a chunk, and at least MIN_CHUNKS chunks, so that a small run of
+        # slow items is still shared by several workers.
+        size = max(1, min(settings.PORTFOLIO_CHUNK_ITEMS, math.ceil(len(good) / MIN_CHUNKS)))
+        groups = [good[at : at + size] for at in range(0, len(good), size)]
+        chunks = PortfolioChunk.objects.bulk_create(
+            [PortfolioChunk(run=run, number=n, items=len(group)) for n, group in enumerate(groups)]
+        )
+        for chunk, group in zip(chunks, groups, strict=True):
+            PortfolioItem.objects.filter(pk__in=group).update(chunk=chunk)
+        run.queued, run.started = len(good), timezone.now()
+        run.status = RunStatus.QUEUED if chunks else RunStatus.FINISHED
+        run.finished = None if chunks else run.started
+        run.save(update_fields=["queued", "started", "status", "finished"])
+        ids = [chunk.pk for chunk in chunks]
+        transaction.on_commit(lambda: tasks.enqueue_run(run.pk, ids, queue_name))
+    return run
+
+
+def run_cancel(*, run: PortfolioRun) -> PortfolioRun:
+    """Stop handing out the run's chunks; chunks already being worked out still write what they find."""
+    with transaction.atomic():
+        run = PortfolioRun.objects.select_for_update().get(pk=run.pk)
+        if run.status not in OPEN_STATUSES:
+            return run
+        run.chunks.filter(status=ChunkStatus.WAITING).update(status=ChunkStatus.CANCELLED)
+        run.status, run.finished = RunStatus.CANCELLED, timezone.now()
+        run.save(update_fields=["status", "finished"])
+    return run
+
+
+def run_delete(*, run: PortfolioRun) -> None:
+    run.delete()
+
+
+def run_share(*, run: PortfolioRun, user=None, group=None) -> None:
+    """Let ``user`` (or every member of ``group``) see the run and download its results."""
+    if user is not None:
+        run.viewers.add(user)
+    if group is not None:
+        run.viewer_groups.add(group)
+
+
+def run_unshare(*, run: PortfolioRun, user=None, group=None) -> None:
+    if user is not None:
+        run.viewers.remove(user)
+    if group is not None:
+        run.viewer_groups.remove(group)
+
+
+# -- the workers' side ------------------------------------------------------------
+
+
+def lease() -> datetime.timedelta:
+    return datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS)
+
+
+def chunk_claim(*, chunk_id: int) -> list[PortfolioItem] | None:
+    """Mark the chunk running for this worker and return its items in row order; None when there is
+    nothing to do (done, cancelled, gone, or another worker alive on it)."""
+    now = timezone.now()
+    with transaction.atomic():
+        chunk = PortfolioChunk.objects.select_for_update().filter(pk=chunk_id).select_related("run").first()
+        if chunk is None or chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED, ChunkStatus.CANCELLED):
+            return None
+        if chunk.run.status == RunStatus.CANCELLED:
+            chunk.status = ChunkStatus.CANCELLED
+            chunk.save(update_fields=["status"])
+            return None
+        if chunk.status == ChunkStatus.RUNNING and chunk.heartbeat and chunk.heartbeat > now - lease():
+            return None
+        chunk.status, chunk.heartbeat, chunk.attempts = ChunkStatus.RUNNING, now, chunk.attempts + 1
+        chunk.save(update_fields=["status", "heartbeat", "attempts"])
+    PortfolioRun.objects.filter(pk=chunk.run_id, status=RunStatus.QUEUED).update(status=RunStatus.RUNNING)
+    return list(PortfolioItem.objects.filter(chunk_id=chunk_id).order_by("row"))
+
+
+def chunks_mark_queued(*, tasks: dict[int, str]) -> None:
+    """Note the queue's task id of each chunk (chunk id -> task id), to find tasks lost with their worker."""
+    for chunk_id, task_id in tasks.items():
+        PortfolioChunk.objects.filter(pk=chunk_id).update(task_id=task_id)
+
+
+def waiting_tasks(run: PortfolioRun) -> dict[str, int]:
+    """The queue's task id of each waiting chunk of ``run`` (task id -> chunk id)."""
+    rows = run.chunks.filter(status=ChunkStatus.WAITING).exclude(task_id="").values_list("task_id", "pk")
+    return dict(rows)
+
+
+def chunk_beat(*, chunk_id: int) -> None:
+    """The worker on the chunk is alive (called every third of the lease while it works)."""
+    PortfolioChunk.objects.filter(pk=chunk_id, status=ChunkStatus.RUNNING).update(heartbeat=timezone.now())
+
+
+def chunk_finish(*, chunk_id: int, results: list[PortfolioResult], engine_seconds: float = 0.0) -> bool:
+    """Write the chunk's results and mark it done, in one transaction; False (nothing written) when the
+    chunk was already written by another worker or given up."""
+    with transaction.atomic():
+        run_id = PortfolioChunk.objects.filter(pk=chunk_id).values_list("run_id", flat=True).first()
+        if run_id is None:
+            return False
+        run = PortfolioRun.objects.select_for_update().get(pk=run_id)
+        chunk = PortfolioChunk.objects.select_for_update().get(pk=chunk_id)
+        if chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED):
+            return False
+        PortfolioResult.objects.bulk_create(results)
+        chunk.status, chunk.engine_seconds = ChunkStatus.DONE, engine_seconds
+        chunk.answered = sum(1 for result in results if result.answered)
+        chunk.unanswered = len(results) - chunk.answered
+        chunk.save(update_fields=["status", "engine_seconds", "answered", "unanswered"])
+        _close_if_complete(run)
+    return True
+
+
+def _close_if_complete(run: PortfolioRun) -> None:
+    """With the run's row locked: mark it finished (or failed, when a chunk was given up) once no chunk
+    is waiting or running."""
+    if run.status not in OPEN_STATUSES:
+        return
+    if run.chunks.filter(status__in=(ChunkStatus.WAITING, ChunkStatus.RUNNING)).exists():
+        return
+    given_up = run.chunks.filter(status=ChunkStatus.FAILED).exists()
+    run.status = RunStatus.FAILED if given_up else RunStatus.FINISHED
+    run.finished = timezone.now()
+    run.save(update_fields=["status", "finished"])
+
+
+def chunks_requeue_stale(*, run: PortfolioRun, lost: list[int] = ()) -> list[int]:
+    """Chunks of ``run`` whose worker has shown no sign of life for a lease, and the waiting chunks in
+    ``lost`` (their task was taken by a worker that died before it could claim the chunk): queued again
+    (their ids are returned; the caller enqueues them), or, after ``PORTFOLIO_MAX_ATTEMPTS`` tries, given
+    up with every item's reason written so that no row goes missing."""
+    stale_before = timezone.now() - lease()
+    with transaction.atomic():
+        run = PortfolioRun.objects.select_for_update().get(pk=run.pk)
+        silent = Q(heartbeat__lt=stale_before) | Q(heartbeat__isnull=True), Q(status=ChunkStatus.RUNNING)
+        stale = list(run.chunks.select_for_update().filter(*silent))
+        for chunk in run.chunks.select_for_update().filter(pk__in=lost, status=ChunkStatus.WAITING):
+            chunk.attempts += 1  # a try that never reached the chunk
+            stale.append(chunk)
+        again = []
+        for chunk in stale:
+            if chunk.attempts >= settings.PORTFOLIO_MAX_ATTEMPTS:
+                _give_up(chunk)
+            else:
+                chunk.status, chunk.heartbeat = ChunkStatus.WAITING, None
+                chunk.save(update_fields=["status", "heartbeat", "attempts"])
+                again.append(chunk.pk)
+        _close_if_complete(run)
+    return again
+
+
+def _give_up(chunk: PortfolioChunk) -> None:
+    reason = (
+        f"not worked out: the worker on it stopped {chunk.attempts} times (each time it went silent for "
+        f"{settings.PORTFOLIO_LEASE_SECONDS:g} seconds); start a new run for these rows"
+    )
+    items = PortfolioItem.objects.filter(chunk=chunk).exclude(result__isnull=False)
+    PortfolioResult.objects.bulk_create(
+        [PortfolioResult(item=item, run_id=chunk.run_id, answered=False, reason=reason) for item in items]
+    )
+    chunk.status, chunk.unanswered = ChunkStatus.FAILED, chunk.items
+    chunk.save(update_fields=["status", "unanswered"])
+
+
+def run_progress(run: PortfolioRun) -> dict:
+    """Rows done and failed, the share done, and the time left at the pace so far (two queries)."""
+    sums = run.chunks.aggregate(answered=Sum("answered"), unanswered=Sum("unanswered"))
+    answered, unanswered = sums["answered"] or 0, sums["unanswered"] or 0
+    done = answered + unanswered + (run.refused if run.status != RunStatus.READY else 0)
+    left = None
+    if run.status in OPEN_STATUSES and run.started and answered + unanswered:
+        elapsed = (timezone.now() - run.started).total_seconds()
+        left = elapsed * (run.queued - answered - unanswered) / (answered + unanswered)
+    return {
+        "status": run.status,
+        "status_text": run.get_status_display(),
+        "open": run.status in OPEN_STATUSES,
+        "rows": run.rows,
+        "done": done,
+        "failed": unanswered + run.refused,
+        "percent": 100.0 * done / run.rows if run.rows else 100.0,
+        "seconds_left": left,
+    }

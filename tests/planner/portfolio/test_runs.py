@@ -1,0 +1,130 @@
+"""Portfolio runs on SQLite, the embedded default: the database queue drained by an in-process
+``db_worker --batch``; every item's figures equal the engine's own answer for it
+(``walkmath.portfolio.answer_items``); chunks written once; silent workers' chunks handed out again."""
+
+import datetime
+
+import pytest
+from django.core.management import call_command
+from django.utils import timezone
+
+from planner.portfolio import services, tasks
+from planner.portfolio.models import ChunkStatus, PortfolioChunk, PortfolioItem, PortfolioResult, RunStatus
+from tests.planner.portfolio.helpers import engine_figures, parsed, stored_figures
+
+pytestmark = pytest.mark.django_db(transaction=True)
+
+
+@pytest.fixture(autouse=True)
+def _small_chunks(settings):
+    settings.PORTFOLIO_CHUNK_ITEMS = 3
+    settings.TASKS = {"default": {"BACKEND": "django_tasks_db.DatabaseBackend"}}
+
+
+def _drain():
+    call_command("db_worker", batch=True, startup_delay=False, reload=False, interval=0, verbosity=0)
+
+
+def test_run_on_the_database_queue_equals_the_engine_item_by_item(owner):
+    run = services.run_create(owner=owner, title="Shelf", parsed=parsed())
+    assert run.status == RunStatus.READY and run.rows == 13 and run.refused == 1
+    run = services.run_start(run=run)
+    assert run.status == RunStatus.QUEUED and run.chunks.count() == 6  # 12 good rows: at least 8 chunks, of 2
+    _drain()
+    run.refresh_from_db()
+    assert run.status == RunStatus.FINISHED
+    results = PortfolioResult.objects.filter(run=run).select_related("item")
+    assert results.count() == 12 and all(result.answered for result in results)
+    for result in results:
+        assert stored_figures(result) == engine_figures(result.item.spec), result.item.code
+    progress = services.run_progress(run)
+    assert progress["done"] == 13 and progress["failed"] == 1 and progress["percent"] == 100.0
+    bad = PortfolioItem.objects.get(run=run, code="BAD-0")
+    assert bad.refusal.startswith("Row 14, column lead time: -3 is out of range")
+
+
+def test_an_item_over_the_cap_is_priced_reported_and_not_run(owner, settings, monkeypatch):
+    settings.PORTFOLIO_ITEM_CAP = 10**6  # below a 20-period stock item's price, above a reorder item's
+    asked = []
+    answer_items = tasks.pf.answer_items
+    monkeypatch.setattr(tasks.pf, "answer_items", lambda items, cap: asked.extend(items) or answer_items(items, cap))
+    run = services.run_start(
+        run=services.run_create(owner=owner, title="Shelf", parsed=parsed(stock=2, reorder=1, spares=0, bad=0))
+    )
+    _drain()
+    refused = PortfolioResult.objects.filter(run=run, answered=False)
+    assert sorted(refused.values_list("item__code", flat=True)) == ["BIN-0", "BIN-1"]
+    assert all(result.reason.startswith("too large to work out:") for result in refused)
+    assert [type(item).__name__ for item in asked] == ["ReorderItem"]  # the engine never saw the stock items
+
+
+def test_a_chunk_finished_twice_is_written_once(owner):
+    run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
+    chunk = run.chunks.first()
+    items = services.chunk_claim(chunk_id=chunk.pk)
+    results, _ = tasks.answer_chunk(items)
+    assert services.chunk_finish(chunk_id=chunk.pk, results=results) is True
+    again, _ = tasks.answer_chunk(items)  # a second worker that thought the first one dead
+    assert services.chunk_finish(chunk_id=chunk.pk, results=again) is False
+    assert PortfolioResult.objects.filter(item__chunk=chunk).count() == len(items) == 2
+
+
+def test_a_silent_chunk_is_handed_out_again_then_given_up(owner, settings):
+    settings.PORTFOLIO_MAX_ATTEMPTS = 2
+    run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
+    chunk = run.chunks.first()
+    silent = timezone.now() - datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS + 1)
+    assert services.chunk_claim(chunk_id=chunk.pk) is not None
+    assert services.chunk_claim(chunk_id=chunk.pk) is None  # its worker is alive: nobody else takes it
+    PortfolioChunk.objects.filter(pk=chunk.pk).update(heartbeat=silent)  # ...then goes silent
+    assert services.chunks_requeue_stale(run=run) == [chunk.pk]
+    chunk.refresh_from_db()
+    assert chunk.status == ChunkStatus.WAITING and chunk.attempts == 1
+    assert services.chunk_claim(chunk_id=chunk.pk) is not None  # second try
+    PortfolioChunk.objects.filter(pk=chunk.pk).update(heartbeat=silent)
+    assert services.chunks_requeue_stale(run=run) == []  # given up after two tries
+    chunk.refresh_from_db()
+    assert chunk.status == ChunkStatus.FAILED
+    reasons = PortfolioResult.objects.filter(item__chunk=chunk).values_list("reason", flat=True)
+    assert len(reasons) == 2 and all(
+        reason.startswith("not worked out: the worker on it stopped 2 times") for reason in reasons
+    )
+    _drain()  # the other chunks, and the stale task of the given-up chunk, which now writes nothing
+    run.refresh_from_db()
+    assert run.status == RunStatus.FAILED
+    assert PortfolioResult.objects.filter(run=run).count() == 12  # every row once: none lost, none twice
+
+
+def test_cancel_stops_the_waiting_chunks_and_keeps_the_rows_done(owner):
+    run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
+    first = run.chunks.first()
+    services.chunk_finish(chunk_id=first.pk, results=tasks.answer_chunk(services.chunk_claim(chunk_id=first.pk))[0])
+    run = services.run_cancel(run=run)
+    _drain()
+    assert run.status == RunStatus.CANCELLED
+    assert PortfolioResult.objects.filter(run=run).count() == 2
+    assert set(run.chunks.exclude(pk=first.pk).values_list("status", flat=True)) == {ChunkStatus.CANCELLED}
+
+
+def test_immediate_backend_works_the_run_out_when_it_starts(owner, settings):
+    settings.TASKS = {"default": {"BACKEND": "django_tasks.backends.immediate.ImmediateBackend"}}
+    run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
+    run.refresh_from_db()
+    assert run.status == RunStatus.FINISHED and PortfolioResult.objects.filter(run=run, answered=True).count() == 12
+
+
+def test_a_task_taken_by_a_worker_that_died_before_claiming_its_chunk_is_queued_again(owner, settings):
+    from django_tasks_db.models import DBTaskResult
+
+    run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
+    chunk = run.chunks.first()
+    long_ago = timezone.now() - datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS + 1)
+    # What db_worker writes when it takes a task; the worker then dies before the task claims the chunk.
+    DBTaskResult.objects.filter(id=chunk.task_id).update(status="RUNNING", started_at=long_ago)
+    assert tasks.requeue_stale(run) == 1
+    chunk.refresh_from_db()
+    assert chunk.status == ChunkStatus.WAITING and chunk.attempts == 1
+    assert DBTaskResult.objects.get(id=chunk.task_id).status == "READY"  # a new task for it
+    _drain()
+    run.refresh_from_db()
+    assert run.status == RunStatus.FINISHED and PortfolioResult.objects.filter(run=run).count() == 12
