@@ -6,6 +6,9 @@ SECRET_KEY      required (32+ characters) when DEBUG is off; a fixed development
 DATABASE_URL    default: SQLite file db.sqlite3 beside manage.py
 ALLOWED_HOSTS   comma-separated, default "localhost,127.0.0.1,[::1]"
 PLANNER_COMPUTE_CAP  largest work one web request computes, in walkmath cost units, default 1200000000
+OPENBLAS_NUM_THREADS BLAS threads in each process, default 1: web and background workers each take a core
+                     already, and more BLAS threads than cores make them wait for one another (read by
+                     numpy when it is first imported, which is after these settings)
 
 Portfolio runs (README, "Portfolio runs"):
 PLANNER_TASKS_BACKEND      "database" (default: a queue in the database, worked by `manage.py db_worker`
@@ -37,7 +40,9 @@ AXES_COOLOFF_TIME               hours a lockout lasts, default 0.25 (15 minutes)
 import os
 from pathlib import Path
 
-import dj_database_url
+os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
+
+import dj_database_url  # noqa: E402
 from django.core.exceptions import ImproperlyConfigured
 
 BASE_DIR = Path(__file__).resolve().parent.parent
