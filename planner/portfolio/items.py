@@ -16,7 +16,6 @@ from dataclasses import dataclass
 import walkmath as wm
 from planner.count_law import CountLaw
 from walkmath import portfolio as pf
-from walkmath.cost import ComputeTooLarge, Work
 
 # Count laws a worker keeps across chunks (a portfolio repeats demand laws: building a Poisson law costs a
 # few milliseconds of tail searches, several times a reorder item's answer). Only laws of at most
@@ -91,29 +90,13 @@ def to_item(spec: dict, laws: Laws | None = None) -> pf.StockItem | pf.ReorderIt
     raise ValueError(f"kind must be stock, reorder or spares; got {kind!r}")
 
 
-def item_work(item) -> Work | None:
-    """The engine's price of one item (``walkmath.portfolio``); None for a spares item, whose search
-    stops itself at the cap (``smallest_spares(cap=...)``: it is small next to a stock item's sweep)."""
-    if isinstance(item, pf.StockItem):
-        return pf.stock_item_work(item)
-    if isinstance(item, pf.ReorderItem):
-        return pf.reorder_item_work(item)
-    return None
-
-
-def priced(spec: dict, cap: int, laws: Laws) -> tuple[object | None, str]:
-    """(the engine's item, "") when the engine may work it out within ``cap`` (priced by its cost model,
-    nothing run); otherwise (None, the reason)."""
+def built(spec: dict, laws: Laws) -> tuple[object | None, str]:
+    """(the engine's item, "") for a stored row, or (None, the reason) when its values do not make one.
+    Nothing is priced or run here: ``walkmath.portfolio.answer_items`` prices every item first."""
     try:
-        item = to_item(spec, laws)
-        work = item_work(item)
-        if work is not None:
-            work.check(cap)
-    except ComputeTooLarge as error:
-        return None, f"too large to work out: {error}"
+        return to_item(spec, laws), ""
     except (ValueError, KeyError, TypeError) as error:
         return None, f"not valid: {error}"
-    return item, ""
 
 
 @dataclass(frozen=True)

@@ -11,6 +11,7 @@ written once: the second finisher sees it done and writes nothing.
 from __future__ import annotations
 
 import datetime
+import json
 import math
 
 from django.conf import settings
@@ -70,7 +71,8 @@ def run_start(*, run: PortfolioRun, queue_name: str = "default") -> PortfolioRun
         run = PortfolioRun.objects.select_for_update().get(pk=run.pk)
         if run.status != RunStatus.READY:
             return run
-        good = list(run.items.filter(refusal="").order_by("row").values_list("pk", flat=True))
+        rows = run.items.filter(refusal="").order_by("row").values_list("pk", "spec")
+        good = [pk for pk, _ in sorted(rows, key=lambda row: shared_work_key(row[1]))]
         # At most PORTFOLIO_CHUNK_ITEMS items a chunk, and at least MIN_CHUNKS chunks, so that a small run of
         # slow items is still shared by several workers.
         size = max(1, min(settings.PORTFOLIO_CHUNK_ITEMS, math.ceil(len(good) / MIN_CHUNKS)))
@@ -87,6 +89,17 @@ def run_start(*, run: PortfolioRun, queue_name: str = "default") -> PortfolioRun
         ids = [chunk.pk for chunk in chunks]
         transaction.on_commit(lambda: tasks.enqueue_run(run.pk, ids, queue_name))
     return run
+
+
+# The fields of an item that decide its laws and sweeps: items alike in them share the engine's work
+# (one backward sweep serves every start, floor and target of a stock item's law; one lead-time demand
+# every reorder point of a demand and lead time), so a run puts them in the same chunks.
+SHARED_FIELDS = ("kind", "demand", "supply", "horizon", "lead_time", "review_period", "units", "failure_rate")
+
+
+def shared_work_key(spec: dict) -> str:
+    """Items with equal keys share the engine's work; the key orders a run's rows into chunks."""
+    return json.dumps([spec.get(field) for field in SHARED_FIELDS], sort_keys=True, default=str)
 
 
 def run_cancel(*, run: PortfolioRun) -> PortfolioRun:

@@ -104,13 +104,14 @@ def work_out_chunk(chunk_id: int) -> dict:
 def answer_chunk(items) -> tuple[list[PortfolioResult], float]:
     """Every item's result row (unsaved), and the seconds spent inside the engine.
 
-    Each item is priced by the engine's cost model first; one over ``PORTFOLIO_ITEM_CAP`` gets its
-    reason and is not run. Laws are built once per chunk and shared by the items that repeat them.
+    Each item is priced by the engine's cost model first (``answer_items`` prices every item before any
+    work); one over ``PORTFOLIO_ITEM_CAP`` gets its reason and is not run. Laws are built once per chunk
+    and shared by the items that repeat them.
     """
     began = time.perf_counter()
     built, reasons, laws = [], {}, item_specs.Laws()
     for item in items:
-        engine_item, reasons[item.pk] = item_specs.priced(item.spec, settings.PORTFOLIO_ITEM_CAP, laws)
+        engine_item, reasons[item.pk] = item_specs.built(item.spec, laws)
         if engine_item is not None:
             built.append((item, engine_item))
     outcomes = pf.answer_items([engine_item for _, engine_item in built], cap=settings.PORTFOLIO_ITEM_CAP)

@@ -11,6 +11,8 @@ from django.utils import timezone
 from planner.portfolio import services, tasks
 from planner.portfolio.models import ChunkStatus, PortfolioChunk, PortfolioItem, PortfolioResult, RunStatus
 from tests.planner.portfolio.helpers import engine_figures, parsed, stored_figures
+from walkmath import portfolio as pf
+from walkmath import portfolio_engine as pf_engine
 
 pytestmark = pytest.mark.django_db(transaction=True)
 
@@ -45,9 +47,11 @@ def test_run_on_the_database_queue_equals_the_engine_item_by_item(owner):
 
 def test_an_item_over_the_cap_is_priced_reported_and_not_run(owner, settings, monkeypatch):
     settings.PORTFOLIO_ITEM_CAP = 10**6  # below a 20-period stock item's price, above a reorder item's
-    asked = []
-    answer_items = tasks.pf.answer_items
-    monkeypatch.setattr(tasks.pf, "answer_items", lambda items, cap: asked.extend(items) or answer_items(items, cap))
+    swept = []
+    for name in ("stacked_risks", "room_overflow"):  # every sweep of the batched stock path
+        sweep = getattr(pf_engine, name)
+        monkeypatch.setattr(pf_engine, name, lambda *a, _sweep=sweep, **k: swept.append(a) or _sweep(*a, **k))
+    monkeypatch.setattr(pf, "answer_stock_item", lambda *a, **k: swept.append(a))  # and the item-by-item one
     run = services.run_start(
         run=services.run_create(owner=owner, title="Shelf", parsed=parsed(stock=2, reorder=1, spares=0, bad=0))
     )
@@ -55,7 +59,8 @@ def test_an_item_over_the_cap_is_priced_reported_and_not_run(owner, settings, mo
     refused = PortfolioResult.objects.filter(run=run, answered=False)
     assert sorted(refused.values_list("item__code", flat=True)) == ["BIN-0", "BIN-1"]
     assert all(result.reason.startswith("too large to work out:") for result in refused)
-    assert [type(item).__name__ for item in asked] == ["ReorderItem"]  # the engine never saw the stock items
+    assert PortfolioResult.objects.filter(run=run, answered=True).count() == 1  # the reorder item
+    assert swept == []  # priced by the engine's cost model and refused before any stock sweep
 
 
 def test_a_chunk_finished_twice_is_written_once(owner):
