@@ -31,7 +31,7 @@ def test_run_on_the_database_queue_equals_the_engine_item_by_item(owner):
     run = services.run_create(owner=owner, title="Shelf", parsed=parsed())
     assert run.status == RunStatus.READY and run.rows == 13 and run.refused == 1
     run = services.run_start(run=run)
-    assert run.status == RunStatus.QUEUED and run.chunks.count() == 6  # 12 good rows: at least 8 chunks, of 2
+    assert run.status == RunStatus.QUEUED and sum(run.chunks.values_list("items", flat=True)) == 12
     _drain()
     run.refresh_from_db()
     assert run.status == RunStatus.FINISHED
@@ -71,7 +71,7 @@ def test_a_chunk_finished_twice_is_written_once(owner):
     assert services.chunk_finish(chunk_id=chunk.pk, results=results) is True
     again, _ = tasks.answer_chunk(items)  # a second worker that thought the first one dead
     assert services.chunk_finish(chunk_id=chunk.pk, results=again) is False
-    assert PortfolioResult.objects.filter(item__chunk=chunk).count() == len(items) == 2
+    assert PortfolioResult.objects.filter(item__chunk=chunk).count() == len(items) == chunk.items
 
 
 def test_a_silent_chunk_is_handed_out_again_then_given_up(owner, settings):
@@ -91,7 +91,7 @@ def test_a_silent_chunk_is_handed_out_again_then_given_up(owner, settings):
     chunk.refresh_from_db()
     assert chunk.status == ChunkStatus.FAILED
     reasons = PortfolioResult.objects.filter(item__chunk=chunk).values_list("reason", flat=True)
-    assert len(reasons) == 2 and all(
+    assert len(reasons) == chunk.items and all(
         reason.startswith("not worked out: the worker on it stopped 2 times") for reason in reasons
     )
     _drain()  # the other chunks, and the stale task of the given-up chunk, which now writes nothing
@@ -107,7 +107,7 @@ def test_cancel_stops_the_waiting_chunks_and_keeps_the_rows_done(owner):
     run = services.run_cancel(run=run)
     _drain()
     assert run.status == RunStatus.CANCELLED
-    assert PortfolioResult.objects.filter(run=run).count() == 2
+    assert PortfolioResult.objects.filter(run=run).count() == first.items
     assert set(run.chunks.exclude(pk=first.pk).values_list("status", flat=True)) == {ChunkStatus.CANCELLED}
 
 
@@ -133,3 +133,16 @@ def test_a_task_taken_by_a_worker_that_died_before_claiming_its_chunk_is_queued_
     _drain()
     run.refresh_from_db()
     assert run.status == RunStatus.FINISHED and PortfolioResult.objects.filter(run=run).count() == 12
+
+
+def test_chunks_hold_items_alike_and_cheap_items_five_to_one(settings):
+    # Items sharing their laws go together (the run sorts them first); a reorder item weighs a fifth.
+    settings.PORTFOLIO_CHUNK_ITEMS = 3
+    weighted = [(n, 5) for n in range(4)] + [(n, 1) for n in range(4, 14)] + [(14, 5)]
+    groups = services._chunk_groups(weighted)
+    assert [pk for group in groups for pk in group] == list(range(15))  # every item once, order kept
+    # 7 items' worth over at least 8 chunks: one item's worth a chunk, five reorder items together
+    assert groups == [[0], [1], [2], [3], list(range(4, 9)), list(range(9, 14)), [14]]
+    settings.PORTFOLIO_CHUNK_ITEMS = 200
+    big = services._chunk_groups([(n, 1) for n in range(10_000)])
+    assert [len(group) for group in big] == [1000] * 10  # 10,000 reorder items: 2,000 items' worth
