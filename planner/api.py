@@ -23,6 +23,7 @@ from ninja.security import HttpBearer, django_auth
 from pydantic import field_validator
 
 from planner import permissions, reading, services
+from planner.background import services as background
 from planner.kinds import all_kinds, get_kind
 from planner.models import ApiToken, Scenario, ScenarioLink
 from planner.permissions import EDIT, OWN
@@ -191,6 +192,15 @@ class ResultOut(Schema):
     figures: list[Figure]
 
 
+class WorkingOut(Schema):
+    plan: int
+    version: int
+    status: str = Field(..., description="queued, running, failed or cancelled (done answers 200)")
+    percent: float = Field(..., description="share of the priced work done, 0 to 100")
+    seconds_left: float | None = Field(None, description="at the pace so far; null until a part is done")
+    message: str = Field("", description="why it stopped (failed or cancelled)")
+
+
 def _plan_out(scenario: Scenario) -> dict:
     fields = ("id", "kind", "title", "notes", "parameters", "stockout_target", "overflow_target", "version")
     return {name: getattr(scenario, name) for name in fields} | {
@@ -282,8 +292,10 @@ def plan_delete(request, plan_id: int):
 
 @api.get(
     "/plans/{plan_id}/result",
-    response={200: ResultOut, 400: Problem, 404: Problem},
+    response={200: ResultOut, 202: WorkingOut, 400: Problem, 404: Problem},
     summary="Work the plan out, optionally with what-if values in the query (the results page's fields)",
+    description="A saved plan too large for one request is worked out by a background worker: 202 with its "
+    "progress until it is done (ask again), then 200 as for any plan.",
 )
 def plan_result(request, plan_id: int):
     scenario = permissions.get_scenario_for(request.user, plan_id)
@@ -294,7 +306,15 @@ def plan_result(request, plan_id: int):
         error = ValueError("; ".join(f"{name}: {' '.join(errors)}" for name, errors in fields.items()))
         error.fields = fields
         raise error
-    found = reading.scenario_reading(scenario=scenario, changes=form.changes())
+    changes = form.changes()
+    if changes:
+        found = reading.scenario_reading(scenario=scenario, changes=changes)
+    else:
+        found, work = background.saved_reading(scenario=scenario)
+        if found is None:
+            progress = background.work_progress_view(work)
+            fields = ("status", "percent", "seconds_left", "message")
+            return Status(202, {"plan": scenario.pk, "version": scenario.version} | {k: progress[k] for k in fields})
     comparable = kind.comparable(found.result)
     curve = None
     figures = []

@@ -194,6 +194,7 @@ class ApiToken(models.Model):
 
 
 # Saved histories live in their own module; imported here so Django finds the model.
+from planner.background.models import BackgroundReading  # noqa: E402, F401
 from planner.history.models import SavedHistory  # noqa: E402, F401
 from planner.portfolio.models import PortfolioChunk, PortfolioItem, PortfolioResult, PortfolioRun  # noqa: E402, F401
 from planner.repairlog.models import SavedRepairLog  # noqa: E402, F401

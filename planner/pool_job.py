@@ -16,7 +16,7 @@ import numpy as np
 
 import walkmath as wm
 from planner.formatting import number
-from planner.kinds import Part
+from planner.kinds import Job, Part
 from planner.pool_words import duration
 
 # Points on the mission curves and the failed-unit law: the start and 40 equal steps to the end.
@@ -26,7 +26,7 @@ MAX_STARTS = 25
 BY_START_LEFT_OUT = "the mission risk by units already failed at the start (too much work for one request)"
 
 
-class PoolJob:
+class PoolJob(Job):
     """One request's shared work on one pool; ``params`` has ``mission`` and ``time_unit``."""
 
     size_words = "this pool"  # the pool's size in the kind's words, for the refusal ('12 units and spares')

@@ -7,6 +7,11 @@ call the page would make is priced with the engine's cost model
 before any of it runs when the required calls exceed
 ``settings.PLANNER_COMPUTE_CAP``. Optional figures (a sizing search, a mean
 time) are left out, with a note, when the remaining budget cannot cover them.
+
+A saved plan over that cap but within ``settings.PLANNER_BACKGROUND_CAP`` is
+not refused: ``scenario_reading`` raises ``TooLargeForRequest`` and the
+caller hands it to a background worker (``planner.background``), which
+prices it again here (``background_job``) and runs it with the larger budget.
 """
 
 from __future__ import annotations
@@ -34,6 +39,17 @@ class Reading:
     @property
     def is_whatif(self) -> bool:
         return bool(self.changes)
+
+
+class TooLargeForRequest(ComputeTooLarge):
+    """The saved plan is over the page's cap but within the background cap: a worker can work it out.
+
+    Its message is the one any page that cannot wait shows (a what-if, a comparison, the cross-check).
+    """
+
+    def __init__(self, message: str, units: int):
+        super().__init__(message)
+        self.units = units
 
 
 def saved_params(scenario) -> Any:
@@ -92,9 +108,10 @@ def scenario_reading(*, scenario, changes: Mapping | None = None, share: int = 1
 
     ``share``: how many plans this request computes (the comparison page); each gets that part of the cap.
     Raises ValueError (ComputeTooLarge included) whose message names the input
-    to change; nothing is computed before the cost check passes.
+    to change; nothing is computed before the cost check passes. The saved plan itself (no changes,
+    one plan) over the page's cap but within the background cap raises TooLargeForRequest.
     """
-    return _read(scenario, changes, lambda kind: kind.prepare, share)
+    return _read(scenario, changes, lambda kind: kind.prepare, share, may_wait=not changes and share == 1)
 
 
 def scenario_cross_check(*, scenario, changes: Mapping | None = None) -> Reading:
@@ -102,23 +119,72 @@ def scenario_cross_check(*, scenario, changes: Mapping | None = None) -> Reading
 
     Http404 when the kind has no cross-check.
     """
-    return _read(scenario, changes, lambda kind: kind.cross_check, 1)
+    return _read(scenario, changes, lambda kind: kind.cross_check, 1, may_wait=False)
 
 
-def _read(scenario, changes: Mapping | None, job_maker, share: int) -> Reading:
+def _read(scenario, changes: Mapping | None, job_maker, share: int, *, may_wait: bool) -> Reading:
     kind = get_kind(scenario.kind)
     saved = kind.params_from_json(scenario.parameters)
     params = kind.apply_changes(saved, changes) if changes else saved
     job = job_maker(kind)(params, scenario.stockout_target, scenario.overflow_target)
     if job is None:
         raise Http404("This kind has no cross-check")
-    result = job.run(_allowed(job, settings.PLANNER_COMPUTE_CAP // share))
+    cap = settings.PLANNER_COMPUTE_CAP // share
+    try:
+        allowed = _allowed(job, cap)
+    except ComputeTooLarge as refusal:
+        waiting = _background_or(refusal, job)
+        if may_wait or not isinstance(waiting, TooLargeForRequest):
+            raise waiting from None
+        if changes:
+            raise ComputeTooLarge(
+                f"{refusal} Saved as a new plan, these values would be worked out in the background."
+            ) from None
+        raise
+    result = job.run(allowed)
     described = tuple(kind.describe_changes(saved, params)) if params != saved else ()
     return Reading(kind=kind, params=params, result=result, changes=described)
 
 
-def plan_headline(*, kind: Kind, params, stockout_target: float, overflow_target: float) -> tuple[float, str]:
-    """The headline stock-out risk of a plan about to be saved and its span (the page's cost check first)."""
+def _background_or(refusal: ComputeTooLarge, job) -> ComputeTooLarge:
+    """TooLargeForRequest when a background worker may work the plan out; else the refusal, saying that
+    a worker would refuse it too."""
+    cap = settings.PLANNER_BACKGROUND_CAP
+    try:
+        allowed = _allowed(job, cap)
+    except ComputeTooLarge as too_large:
+        required = sum(part.units for part in job.parts() if part.required)
+        if required <= cap:  # refused for another reason (memory): the worker's own words
+            return too_large
+        times = f"about {required / cap:.1f} times" if required < 1000 * cap else "over a thousand times"
+        return ComputeTooLarge(f"{refusal} It is also beyond what a background worker takes ({times} its limit).")
+    return TooLargeForRequest(
+        f"{refusal} Saved as it is, the plan is worked out in the background instead: open its results page.",
+        sum(allowed.values()),
+    )
+
+
+def background_job(*, kind: Kind, params, stockout_target: float, overflow_target: float):
+    """A background worker's job and its budget by part (priced with PLANNER_BACKGROUND_CAP).
+
+    ComputeTooLarge when even that cap does not cover it (the plan changed, or the cap did, since it was queued).
+    """
     job = kind.prepare(params, stockout_target, overflow_target)
-    _allowed(job)
+    return job, _allowed(job, settings.PLANNER_BACKGROUND_CAP)
+
+
+def plan_headline(*, kind: Kind, params, stockout_target: float, overflow_target: float) -> tuple[float | None, str]:
+    """The headline stock-out risk of a plan about to be saved and its span (the page's cost check first).
+
+    (None, "") for a plan a page cannot work out but a background worker can: the worker stores it.
+    ComputeTooLarge when neither can.
+    """
+    job = kind.prepare(params, stockout_target, overflow_target)
+    try:
+        _allowed(job)
+    except ComputeTooLarge as refusal:
+        waiting = _background_or(refusal, job)
+        if isinstance(waiting, TooLargeForRequest):
+            return None, ""
+        raise waiting from None
     return job.headline()

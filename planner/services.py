@@ -2,7 +2,9 @@
 
 Each save stores the plan's headline stock-out risk (computed through the read
 service, with its cost check) so the scenario list never recomputes plans. A
-plan too large to compute raises ``walkmath.ComputeTooLarge`` and nothing is
+plan too large for a page but within the background cap is saved without one
+and queued for a background worker, which stores it (``planner.background``);
+a plan too large for both raises ``walkmath.ComputeTooLarge`` and nothing is
 written.
 
 Every save raises the plan's ``version`` by one and records what it wrote as a
@@ -24,6 +26,7 @@ from django.db.models import F
 from django.http import Http404
 from django.utils import timezone
 
+from planner.background import services as background
 from planner.kinds import get_kind
 from planner.models import ApiToken, Scenario, ScenarioLink, ScenarioShare, ScenarioVersion
 from planner.reading import plan_headline
@@ -52,6 +55,12 @@ def _set_headline(scenario: Scenario, params) -> None:
         overflow_target=scenario.overflow_target,
     )
     scenario.headline_risk, scenario.headline_span = risk, span[:60]
+
+
+def _queue_if_large(scenario: Scenario) -> None:
+    """A plan too large for a page (no headline yet) goes to a background worker as soon as it is saved."""
+    if scenario.headline_risk is None:
+        background.work_request(scenario=scenario)
 
 
 def _record_version(scenario: Scenario, *, saved_by, restored_from: int | None = None) -> ScenarioVersion:
@@ -92,6 +101,7 @@ def scenario_create(
     with transaction.atomic():
         scenario.save()
         _record_version(scenario, saved_by=owner)
+        _queue_if_large(scenario)
     return scenario
 
 
@@ -135,6 +145,7 @@ def scenario_update(
         scenario.version = Scenario.objects.values_list("version", flat=True).get(pk=scenario.pk)
         scenario.updated = now
         _record_version(scenario, saved_by=editor or scenario.owner, restored_from=restored_from)
+        _queue_if_large(scenario)
     return scenario
 
 

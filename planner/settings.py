@@ -6,6 +6,9 @@ SECRET_KEY      required (32+ characters) when DEBUG is off; a fixed development
 DATABASE_URL    default: SQLite file db.sqlite3 beside manage.py
 ALLOWED_HOSTS   comma-separated, default "localhost,127.0.0.1,[::1]"
 PLANNER_COMPUTE_CAP  largest work one web request computes, in walkmath cost units, default 1200000000
+PLANNER_BACKGROUND_CAP  largest work of one saved plan a background worker computes when a page cannot,
+                     in walkmath cost units, default 20000000000 (the engine's own cap); the plan's page
+                     shows a progress bar meanwhile (README, "Large plans")
 OPENBLAS_NUM_THREADS BLAS threads in each process, default 1: web and background workers each take a core
                      already, and more BLAS threads than cores make them wait for one another (read by
                      numpy when it is first imported, which is after these settings)
@@ -252,6 +255,8 @@ STORAGES = {
 # measured about 1.5e9 a second here), summed over every engine call the page makes. The default keeps the
 # most expensive page a signed-in user can ask for under about 2 s (README, "Settings").
 PLANNER_COMPUTE_CAP = _whole("PLANNER_COMPUTE_CAP", "1200000000")
+# A saved plan over PLANNER_COMPUTE_CAP but within this is worked out by a background worker (planner/background/).
+PLANNER_BACKGROUND_CAP = _whole("PLANNER_BACKGROUND_CAP", "20000000000")
 
 _TASK_BACKENDS = {
     "database": "django_tasks_db.DatabaseBackend",

@@ -4,6 +4,7 @@ from django.urls import include, path
 
 from planner import views
 from planner.api import api
+from planner.background import views as background_views
 
 urlpatterns = [
     path("", views.scenario_list, name="scenario_list"),
@@ -20,6 +21,9 @@ urlpatterns = [
     path("scenarios/<int:pk>/sharing/<int:share_id>/", views.scenario_share_change, name="scenario_share_change"),
     path("scenarios/<int:pk>/links/", views.scenario_link_create, name="scenario_link_create"),
     path("scenarios/<int:pk>/links/<int:link_id>/revoke/", views.scenario_link_revoke, name="scenario_link_revoke"),
+    path("scenarios/<int:pk>/background/status.json", background_views.plan_work_status, name="plan_work_status"),
+    path("scenarios/<int:pk>/background/cancel/", background_views.plan_work_cancel, name="plan_work_cancel"),
+    path("scenarios/<int:pk>/background/restart/", background_views.plan_work_restart, name="plan_work_restart"),
     path("scenarios/<int:pk>/history/", views.scenario_history, name="scenario_history"),
     path("scenarios/<int:pk>/history/<int:number>/", views.scenario_version, name="scenario_version"),
     path(

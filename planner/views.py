@@ -32,6 +32,7 @@ from django.utils import timezone
 from django.views.decorators.http import require_GET, require_http_methods, require_POST
 
 from planner import comparison, permissions, reading, services, version_diff
+from planner.background import services as background
 from planner.csv_writer import file_name, rows_csv, table_csv
 from planner.forms import (
     ApiTokenForm,
@@ -183,10 +184,18 @@ def scenario_results(request, pk: int):
     context = {"scenario": scenario, "kind": kind, "save_form": SaveAsNewForm()}
     try:
         context["params"] = scenario.params
-        context |= _results_context(reading.scenario_reading(scenario=scenario))
+        context |= _saved_context(scenario)
     except ValueError as exc:
         context["error"] = str(exc)
     return render(request, "planner/scenario_results.html", context)
+
+
+def _saved_context(scenario: Scenario) -> dict:
+    """The saved plan's figures, worked out now or by a background worker (then ``work`` and, while the
+    worker is on it, its ``progress`` instead of the figures)."""
+    found, work = background.saved_reading(scenario=scenario)
+    context = {} if work is None else {"work": work, "progress": background.work_progress_view(work)}
+    return context | (_results_context(found) if found is not None else {})
 
 
 @login_required
@@ -268,8 +277,11 @@ def scenario_csv(request, pk: int, table: str):
         if table in kind.check_tables:
             found = reading.scenario_cross_check(scenario=scenario, changes=changes)
             rows = kind.check_rows(found.result, table)
-        else:
+        elif changes:
             found = reading.scenario_reading(scenario=scenario, changes=changes)
+            rows = kind.table_rows(found.result, table)
+        else:
+            found = _saved_reading_now(scenario)
             rows = kind.table_rows(found.result, table)
     except ValueError as exc:
         return HttpResponse(str(exc), status=400, content_type="text/plain; charset=utf-8")
@@ -279,6 +291,21 @@ def scenario_csv(request, pk: int, table: str):
         f'attachment; filename="{file_name(scenario.title, table, whatif=found.is_whatif)}"'
     )
     return response
+
+
+class StillWorking(ValueError):
+    """The saved plan is still being worked out in the background: its tables are not there yet."""
+
+
+def _saved_reading_now(scenario: Scenario) -> reading.Reading:
+    """The saved plan's reading, from a page or a background worker; StillWorking while a worker is on it."""
+    found, work = background.saved_reading(scenario=scenario)
+    if found is None:
+        raise StillWorking(
+            f"This plan is too large for one request and is being worked out in the background "
+            f"({work.get_status_display().lower()}); {work.message or 'its tables are ready when its results page is.'}"
+        )
+    return found
 
 
 def _sharing_page(request, scenario, *, form=None, link_form=None, new_link=None, status=200):
@@ -370,7 +397,7 @@ def link_results(request, token: str):
     context = {"scenario": scenario, "kind": kind, "token": token}
     try:
         context["params"] = scenario.params
-        context |= _results_context(reading.scenario_reading(scenario=scenario))
+        context |= _saved_context(scenario)
     except ValueError as exc:
         context["error"] = str(exc)
     return _link_response(render(request, "planner/link_results.html", context))
@@ -384,7 +411,7 @@ def link_csv(request, token: str, table: str):
     if table not in kind.tables:
         raise Http404("No such table")
     try:
-        found = reading.scenario_reading(scenario=scenario)
+        found = _saved_reading_now(scenario)
     except ValueError as exc:
         return _link_response(HttpResponse(str(exc), status=400, content_type="text/plain; charset=utf-8"))
     body = table_csv(kind.table_rows(found.result, table), title=scenario.title)

@@ -35,6 +35,25 @@ class Part:
     stops_itself: bool = False
 
 
+class Job:
+    """What every kind's job shares (``Kind.prepare`` makes one): a background worker listens for parts done.
+
+    A job calls ``part_done(name)`` after each priced part it ran (a name from its ``parts()``); the
+    worker (``planner.background``) then records the progress and may stop the job by raising from
+    ``on_part_done``. ``headline_of(result)`` is the headline stored with the plan, read off a finished
+    result where the kind can (the default works it out again with ``headline()``).
+    """
+
+    on_part_done: Callable[[str], None] | None = None
+
+    def part_done(self, name: str) -> None:
+        if self.on_part_done is not None:
+            self.on_part_done(name)
+
+    def headline_of(self, result) -> tuple[float, str]:
+        return self.headline()
+
+
 @dataclass(frozen=True)
 class Comparable:
     """What the comparison page shows of one plan: one risk curve over its periods and its key figures.

@@ -10,7 +10,6 @@ written once: the second finisher sees it done and writes nothing.
 
 from __future__ import annotations
 
-import datetime
 import json
 import math
 
@@ -19,6 +18,7 @@ from django.db import transaction
 from django.db.models import Q, Sum
 from django.utils import timezone
 
+from planner.heartbeat import lease
 from planner.portfolio.items_file import ItemsFile
 from planner.portfolio.models import (
     OPEN_STATUSES,
@@ -154,10 +154,6 @@ def run_unshare(*, run: PortfolioRun, user=None, group=None) -> None:
 
 
 # -- the workers' side ------------------------------------------------------------
-
-
-def lease() -> datetime.timedelta:
-    return datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS)
 
 
 def chunk_claim(*, chunk_id: int) -> list[PortfolioItem] | None:

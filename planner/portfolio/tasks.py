@@ -7,8 +7,8 @@ the results and mark the chunk done in one transaction.
 
 The database queue (``django_tasks_db``) never hands a task out again once a
 worker has claimed it, even when that worker is killed (its row stays
-"running"). So a chunk carries its own lease: while it works, the worker
-stamps the chunk's ``heartbeat`` every third of ``PORTFOLIO_LEASE_SECONDS``
+"running"). So a chunk carries its own lease (``planner.heartbeat``): while it
+works, the worker stamps the chunk's ``heartbeat`` every third of ``PORTFOLIO_LEASE_SECONDS``
 from a side thread; a chunk whose stamp is older than the lease is queued
 again (``services.chunks_requeue_stale``), as is a waiting chunk whose task a worker took
 and then died before it could claim the chunk, by ``watch_run`` (a task that runs
@@ -20,23 +20,17 @@ are written once whatever happens: see ``services.chunk_finish``.
 from __future__ import annotations
 
 import datetime
-import logging
-import threading
 import time
 
 from django.conf import settings
-from django.db import DatabaseError, connection
 from django.utils import timezone
 from django_tasks import DEFAULT_TASK_QUEUE_NAME, default_task_backend, task
-from django_tasks_db import DatabaseBackend
-from django_tasks_db.models import DBTaskResult
 
+from planner.heartbeat import Heartbeat, tasks_taken_before
 from planner.portfolio import items as item_specs
 from planner.portfolio import services
 from planner.portfolio.models import OPEN_STATUSES, PortfolioResult, PortfolioRun
 from walkmath import portfolio as pf
-
-log = logging.getLogger(__name__)
 
 
 def enqueue_run(run_id: int, chunk_ids: list[int], queue_name: str = DEFAULT_TASK_QUEUE_NAME) -> None:
@@ -62,17 +56,10 @@ def requeue_stale(run: PortfolioRun) -> int:
 
 
 def _lost_chunks(run: PortfolioRun) -> list[int]:
-    """Waiting chunks whose task a worker took more than a lease ago (the queue's row says running, or
-    finished) without the chunk ever being claimed: that worker died between the two. The database queue
-    keeps such a task "running" forever; it is asked in one query."""
-    if not isinstance(work_out_chunk.get_backend(), DatabaseBackend):
-        return []
+    """Waiting chunks whose task a worker took more than a lease ago without the chunk ever being claimed:
+    that worker died between the two."""
     waiting = services.waiting_tasks(run)
-    if not waiting:
-        return []
-    taken_before = timezone.now() - datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS)
-    taken = DBTaskResult.objects.filter(id__in=list(waiting), started_at__lt=taken_before).exclude(status="READY")
-    return [waiting[str(task_id)] for task_id in taken.values_list("id", flat=True)]
+    return [waiting[task_id] for task_id in tasks_taken_before(work_out_chunk, waiting)]
 
 
 @task()
@@ -92,7 +79,7 @@ def work_out_chunk(chunk_id: int) -> dict:
     items = services.chunk_claim(chunk_id=chunk_id)
     if items is None:
         return {"chunk": chunk_id, "written": False}
-    with _Heartbeat(chunk_id):
+    with Heartbeat(lambda: services.chunk_beat(chunk_id=chunk_id), f"chunk {chunk_id}"):
         results, engine_seconds = answer_chunk(items)
     written = services.chunk_finish(chunk_id=chunk_id, results=results, engine_seconds=engine_seconds)
     run = PortfolioRun.objects.filter(chunks__pk=chunk_id).first() if written else None
@@ -127,30 +114,3 @@ def answer_chunk(items) -> tuple[list[PortfolioResult], float]:
         figures = item_specs.figures(item.spec, outcome.answer)
         results.append(PortfolioResult(item=item, run_id=item.run_id, answered=True, **vars(figures)))
     return results, engine_seconds
-
-
-class _Heartbeat:
-    """Stamps the chunk's heartbeat every third of the lease from a side thread (its own connection)."""
-
-    def __init__(self, chunk_id: int):
-        self.chunk_id = chunk_id
-        self.stop = threading.Event()
-        self.thread = threading.Thread(target=self._beat, daemon=True)
-
-    def __enter__(self):
-        self.thread.start()
-        return self
-
-    def __exit__(self, *exc):
-        self.stop.set()
-        self.thread.join()
-
-    def _beat(self) -> None:
-        try:
-            while not self.stop.wait(settings.PORTFOLIO_LEASE_SECONDS / 3):
-                try:
-                    services.chunk_beat(chunk_id=self.chunk_id)
-                except DatabaseError as error:  # a busy SQLite file: the next beat tries again
-                    log.warning("heartbeat of chunk %s missed: %s", self.chunk_id, error)
-        finally:
-            connection.close()

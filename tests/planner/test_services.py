@@ -38,6 +38,7 @@ def test_headline_is_stored_at_save(owner, small_params):
 
 def test_a_plan_too_large_to_compute_is_not_saved(owner, small_params, settings):
     settings.PLANNER_COMPUTE_CAP = 1000
+    settings.PLANNER_BACKGROUND_CAP = 1_000  # too large for a background worker too (tests/planner/background)
     with pytest.raises(ComputeTooLarge, match="shorten the horizon"):
         services.scenario_create(owner=owner, kind="stock_plan", title="Seed tray", params=small_params)
     assert Scenario.objects.count() == 0

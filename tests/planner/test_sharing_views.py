@@ -33,6 +33,9 @@ NEEDS = {
     "scenario_history": VIEW,
     "scenario_version": VIEW,
     "scenario_version_restore": EDIT,
+    "plan_work_status": VIEW,
+    "plan_work_cancel": EDIT,
+    "plan_work_restart": EDIT,
 }
 REQUESTS = [
     ("scenario_results", "get"),
@@ -52,6 +55,9 @@ REQUESTS = [
     ("scenario_history", "get"),
     ("scenario_version", "get"),
     ("scenario_version_restore", "post"),
+    ("plan_work_status", "get"),
+    ("plan_work_cancel", "post"),
+    ("plan_work_restart", "post"),
 ]
 
 

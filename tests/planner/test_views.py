@@ -248,6 +248,7 @@ def test_outlook_json_answers_400_with_the_message(client, scenario, query, mess
 
 def test_cost_refusal_names_what_to_shorten_on_every_page(client, scenario, settings):
     settings.PLANNER_COMPUTE_CAP = 1_000_000
+    settings.PLANNER_BACKGROUND_CAP = 1_000_000  # too large for a background worker too (tests/planner/background)
     client.force_login(scenario.owner)
     response = client.get(url_for("scenario_outlook_json", scenario, {}), {"horizon": "50"})
     assert response.status_code == 400
@@ -372,6 +373,7 @@ def test_hover_values_use_the_formatter(client, scenario):
 
 def test_a_plan_too_large_to_compute_is_not_saved_and_says_why(client, owner, settings):
     settings.PLANNER_COMPUTE_CAP = 1_000_000
+    settings.PLANNER_BACKGROUND_CAP = 1_000_000  # too large for a background worker too (tests/planner/background)
     client.force_login(owner)
     data = {
         "title": "Flour by the gram",

@@ -31,7 +31,7 @@ import numpy as np
 
 import walkmath as wm
 from planner.formatting import period_name, periods, units
-from planner.kinds import Part
+from planner.kinds import Job, Part
 from planner.kinds.reorder_plan import words
 from planner.kinds.reorder_plan.params import ReorderPlanParams
 
@@ -212,7 +212,7 @@ class ReorderResult:
         return lead
 
 
-class ReorderJob:
+class ReorderJob(Job):
     """One request's work on one reorder plan: laws built once, each engine call priced first."""
 
     def __init__(self, params: ReorderPlanParams, stockout_target: float = 0.0, overflow_target: float = 0.0):
@@ -414,6 +414,7 @@ class ReorderJob:
         """Every figure of the page; optional parts not in ``allowed`` are left out with a note."""
         p = self.params
         plan = self._plan()
+        self.part_done("reorder_point")
         left_out = []
         policy = cheapest = None
         name = period_name(p.period, 2)
@@ -427,11 +428,13 @@ class ReorderJob:
             left_out.append(f"the review policy's figures ({why})")
         elif "policy" in allowed:
             policy = self._policy()
+            self.part_done("policy")
         else:
             left_out.append(f"the review policy's figures (too large to work out in one request at these {name})")
         if policy is not None and p.has_costs:
             if "cheapest" in allowed:
                 cheapest = self._cheapest()
+                self.part_done("cheapest")
             else:
                 left_out.append("the cheapest policy on your costs (too large a search for one request)")
         return ReorderResult(params=p, plan=plan, policy=policy, cheapest=cheapest, left_out=tuple(left_out))

@@ -17,7 +17,7 @@ import numpy as np
 
 import walkmath as wm
 from planner.formatting import period_name, periods, units
-from planner.kinds import Part
+from planner.kinds import Job, Part
 from planner.kinds.stock_plan.params import StockPlanParams
 from planner.kinds.stock_plan.words import ABOVE_SHORT, BELOW_SHORT
 
@@ -122,7 +122,7 @@ class StockResult:
         return periods(self.horizon, self.period)
 
 
-class StockJob:
+class StockJob(Job):
     """One request's work on one plan: laws and walk built once, each engine call priced first."""
 
     def __init__(self, params: StockPlanParams, stockout_target: float, overflow_target: float):
@@ -198,16 +198,23 @@ class StockJob:
         risk = float(self.walk.outlook(self.params.horizon).stockout[-1])
         return risk, periods(self.params.horizon, self.params.period)
 
+    def headline_of(self, result: StockResult) -> tuple[float, str]:
+        """The same figure off a finished result (its outlook is the headline's sweep, keeping every period)."""
+        return result.stockout_risk, result.span
+
     def run(self, allowed: dict[str, int]) -> StockResult:
         """Every figure of the page; optional parts not in ``allowed`` (name -> budget) are left out with a note."""
         params, walk, horizon = self.params, self.walk, self.params.horizon
         outlook = walk.outlook(horizon, keep_levels=True)  # the heat map reads every period
+        self.part_done("outlook")
         start_risk = walk.risk_by_start(horizon)
+        self.part_done("risk_by_start")
         left_out = []
         capacity_answer = both_answer = None
         if params.high is not None:
             if "smallest_capacity" in allowed:
                 capacity_answer = self._capacity_answer(allowed["smallest_capacity"])
+                self.part_done("smallest_capacity")
             if capacity_answer is None:
                 left_out.append("the smallest capacity for the overflow target (too large a search for one request)")
             both_answer = self._start_answer(start_risk, both=True)
@@ -215,11 +222,13 @@ class StockJob:
         if "normal_levels" in allowed:
             with contextlib.suppress(ValueError):  # wider than the engine's own limit for this comparison
                 normal_final = wm.normal_level_distribution(list(self.laws), steps=horizon, start=params.start)
+            self.part_done("normal_levels")
         if normal_final is None:
             left_out.append(f"the normal approximation of the stock on {period_name(params.period)} {horizon}")
         mean_time = None
         if "mean_time" in allowed:
             mean_time = walk.mean_periods_to_stockout()
+            self.part_done("mean_time")
         else:
             why = "set a capacity" if params.high is None else "too large a solve for one request"
             left_out.append(f"the expected {period_name(params.period, 2)} to the first stock-out ({why})")

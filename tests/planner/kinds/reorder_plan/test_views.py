@@ -90,6 +90,7 @@ def test_preview_shows_demand_over_the_lead_time(client, owner):
 
 def test_a_plan_too_large_for_the_server_is_refused_politely(client, igniters, settings):
     settings.PLANNER_COMPUTE_CAP = 10_000
+    settings.PLANNER_BACKGROUND_CAP = 10_000  # too large for a background worker too (tests/planner/background)
     page = client.get(igniters.get_absolute_url()).content.decode()
     assert "These results cannot be worked out as set." in page
     assert "too large to work out in one request" in page and "shorten the lead time" in page

@@ -1,7 +1,8 @@
-// A portfolio run's page: while the run is open, ask the status endpoint once a second and move the
-// progress bar (rows done, rows not worked out, time left); when the run closes, reload the page so the
-// results table and the chart show every row. No inline scripts: the endpoint's address is a data-
-// attribute. data-state on #run-progress is the run's status ("error" when a poll fails).
+// Background work's progress bar (a portfolio run, or a plan too large for one page): while the work is
+// open, ask the status endpoint once a second and move the bar (share done, rows done and not worked out
+// when the work has rows, time left); when it closes, reload the page so it shows every result. No inline
+// scripts: the endpoint's address is a data-attribute. data-state on #run-progress is the work's status
+// ("error" when a poll fails).
 (function () {
   "use strict";
   var box = document.getElementById("run-progress");
@@ -28,8 +29,10 @@
         bar.value = status.percent;
         bar.textContent = Math.floor(status.percent) + " %";
         text("progress-percent", Math.floor(status.percent));
-        text("progress-done", status.done.toLocaleString("en-GB"));
-        text("progress-failed", status.failed.toLocaleString("en-GB"));
+        if (status.rows !== null && status.rows !== undefined) {
+          text("progress-done", status.done.toLocaleString("en-GB"));
+          text("progress-failed", status.failed.toLocaleString("en-GB"));
+        }
         text("progress-state", status.status_text);
         text("progress-left", left(status.seconds_left));
         box.dataset.state = status.status;
