@@ -14,10 +14,11 @@ import json
 import math
 
 from django.conf import settings
-from django.db import transaction
+from django.db import connection, transaction
 from django.db.models import Q, Sum
 from django.utils import timezone
 
+from planner import json_text
 from planner.heartbeat import lease
 from planner.portfolio.items_file import ItemsFile
 from planner.portfolio.models import (
@@ -42,23 +43,36 @@ def run_create(*, owner, title: str, parsed: ItemsFile, file_name: str = "") -> 
         run.refused = len(parsed.bad)
         run.full_clean()
         run.save()
-        PortfolioItem.objects.bulk_create(
-            [
-                PortfolioItem(
-                    run=run,
-                    row=row.row,
-                    code=row.code,
-                    description=row.description,
-                    kind=row.kind,
-                    period=row.period,
-                    spec=row.spec,
-                    refusal=row.problem,
-                )
-                for row in parsed.rows
-            ],
-            batch_size=2000,
-        )
+        _store_items(run, parsed.rows)
     return run
+
+
+ITEM_COLUMNS = ("run", "row", "code", "description", "kind", "period", "spec", "refusal")
+
+
+def _store_items(run: PortfolioRun, rows) -> None:
+    """Every row of the file in one bulk write inside the caller's transaction: COPY on PostgreSQL, one
+    ``executemany`` elsewhere. The ORM's ``bulk_create`` spent 9 of its 11 s on 100,000 rows preparing each
+    field of each row. Specs are written as JSON text (orjson, as the JSON field itself would store them);
+    a refused row's spec is NULL."""
+    quote = connection.ops.quote_name
+    table = quote(PortfolioItem._meta.db_table)
+    columns = ", ".join(quote(PortfolioItem._meta.get_field(name).column) for name in ITEM_COLUMNS)
+    values = (
+        (run.pk, row.row, row.code, row.description, row.kind, row.period, _json(row.spec), row.problem) for row in rows
+    )
+    with connection.cursor() as cursor:
+        if connection.vendor == "postgresql":
+            with cursor.copy(f"COPY {table} ({columns}) FROM STDIN") as copy:
+                for value in values:
+                    copy.write_row(value)
+            return
+        marks = ", ".join(["%s"] * len(ITEM_COLUMNS))
+        cursor.executemany(f"INSERT INTO {table} ({columns}) VALUES ({marks})", list(values))
+
+
+def _json(spec) -> str | None:
+    return None if spec is None else json_text.dumps(spec)
 
 
 def run_start(*, run: PortfolioRun, queue_name: str = "default") -> PortfolioRun:

@@ -45,6 +45,20 @@ def test_run_on_the_database_queue_equals_the_engine_item_by_item(owner):
     assert bad.refusal.startswith("Row 14, column lead time: -3 is out of range")
 
 
+def test_every_row_is_stored_as_read(owner):
+    """The bulk write (COPY on PostgreSQL, executemany on SQLite) stores what the ORM would: each row's
+    fields, its spec read back equal to the parsed one (floats included), a refused row's reason and no spec."""
+    table = parsed(stock=5, reorder=4, spares=3, bad=2)
+    run = services.run_create(owner=owner, title="Shelf", parsed=table, file_name="shelf.csv")
+    stored = {item.row: item for item in PortfolioItem.objects.filter(run=run)}
+    assert len(stored) == len(table.rows) == 14
+    for row in table.rows:
+        item = stored[row.row]
+        got = (item.code, item.description, item.kind, item.period, item.spec, item.refusal, item.chunk_id)
+        assert got == (row.code, row.description, row.kind, row.period, row.spec, row.problem, None)
+    assert sum(item.spec is None and item.refusal != "" for item in stored.values()) == 2
+
+
 def test_an_item_over_the_cap_is_priced_reported_and_not_run(owner, settings, monkeypatch):
     settings.PORTFOLIO_ITEM_CAP = 10**6  # below a 20-period stock item's price, above a reorder item's
     swept = []
