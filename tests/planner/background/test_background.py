@@ -321,3 +321,20 @@ def test_the_api_answers_202_with_the_progress_then_200(client, owner):
     drain()
     done = client.get(url)
     assert done.status_code == 200 and done.json()["curve"]["y"][-1] == scenario.__class__.objects.get().headline_risk
+
+
+def test_a_large_whatif_saved_as_a_new_plan_is_worked_out_in_the_background(client, owner, settings):
+    settings.PLANNER_COMPUTE_CAP = 1_200_000_000
+    scenario = example_scenario(owner, "stock_plan")  # worked out by its page
+    settings.PLANNER_COMPUTE_CAP = 1_000
+    client.force_login(owner)
+    answer = client.post(
+        reverse("scenario_variant_save", args=[scenario.pk]), {"title": "Rye shelf, a month", "horizon": "30"}
+    )
+    variant = type(scenario).objects.get(title="Rye shelf, a month")
+    assert answer.status_code == 302 and answer["Location"] == variant.get_absolute_url()
+    assert variant.params.horizon == 30 and variant.headline_risk is None
+    assert BackgroundReading.objects.get().scenario == variant
+    drain()
+    variant.refresh_from_db()
+    assert variant.headline_risk is not None
