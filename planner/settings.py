@@ -5,7 +5,7 @@ SECRET_KEY      required (32+ characters) when DEBUG is off; a fixed development
                 `make run` keeps a generated local key in .secret_key (git-ignored).
 DATABASE_URL    default: SQLite file db.sqlite3 beside manage.py
 ALLOWED_HOSTS   comma-separated, default "localhost,127.0.0.1,[::1]"
-PLANNER_COMPUTE_CAP  largest work one web request computes, in walkmath cost units, default 1200000000
+PLANNER_COMPUTE_CAP  largest work one web request computes, in walkmath cost units, default 5000000000
 PLANNER_BACKGROUND_CAP  largest work of one saved plan a background worker computes when a page cannot,
                      in walkmath cost units, default 20000000000 (the engine's own cap); the plan's page
                      shows a progress bar meanwhile (README, "Large plans")
@@ -252,9 +252,10 @@ STORAGES = {
 
 
 # Largest work one web request computes, in the engine's cost units (level·period·jump, walkmath.cost;
-# measured about 1.5e9 a second here), summed over every engine call the page makes. The default keeps the
-# most expensive page a signed-in user can ask for under about 2 s (README, "Settings").
-PLANNER_COMPUTE_CAP = _whole("PLANNER_COMPUTE_CAP", "1200000000")
+# the sweeps run at 5e9 to 2.5e10 a second here), summed over every engine call the page makes. The default
+# keeps the most expensive page a signed-in user can ask for under about 2 s (README, "Settings";
+# `manage.py bench_whatif --worst`).
+PLANNER_COMPUTE_CAP = _whole("PLANNER_COMPUTE_CAP", "5000000000")
 # A saved plan over PLANNER_COMPUTE_CAP but within this is worked out by a background worker (planner/background/).
 PLANNER_BACKGROUND_CAP = _whole("PLANNER_BACKGROUND_CAP", "20000000000")
 

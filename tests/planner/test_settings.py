@@ -69,7 +69,7 @@ def test_defaults_run_on_sqlite_with_debug_off():
     # DEBUG off: static files from the collectstatic manifest, served by WhiteNoise.
     assert done.stdout.split() == [
         "django.db.backends.sqlite3",
-        "1200000000",
+        "5000000000",
         "False",
         "CompressedManifestStaticFilesStorage",
     ]

@@ -37,6 +37,16 @@ WORST_SHAPES = {
     "capacity 300, weekly cycle": {"start": 150, "high": 300, "below": "lost", "step_method": "net"}
     | {"demand": {"family": "negative_binomial", "mean": 6, "variance": 18}, "profile": [1, 1, 1.2, 1.4, 0.6, 0.8, 0.9]}
     | {"delivery_every": 7, "delivery_size": 40},
+    # Wide bands: the stock-by-day table's cell limit, not the horizon, stops these.
+    "capacity 3,000, Poisson 40 in and out": {"start": 1500, "high": 3000, "below": "lost", "step_method": "net"}
+    | {"arrivals": {"family": "poisson", "mean": 40.8}, "demand": {"family": "poisson", "mean": 40}},
+    "capacity 2,000, Poisson 200 in and out": {"start": 1000, "high": 2000, "below": "lost", "step_method": "net"}
+    | {"arrivals": {"family": "poisson", "mean": 200}, "demand": {"family": "poisson", "mean": 200}},
+    "no capacity, Poisson 20 in and out, backorders": {"start": 200, "below": "backorder", "step_method": "net"}
+    | {"arrivals": {"family": "poisson", "mean": 20.4}, "demand": {"family": "poisson", "mean": 20}},
+    "capacity 500, negative binomial 300 a day (variance 3,000), daily delivery": {"start": 250, "high": 500}
+    | {"below": "lost", "step_method": "net", "demand": {"family": "negative_binomial", "mean": 300, "variance": 3000}}
+    | {"delivery_every": 1, "delivery_size": 300},
 }
 
 # Reorder plans whose unmet demand is lost: their page's work grows steeply with the lead time.
