@@ -34,7 +34,7 @@ run: $(BIN)/.installed $(SECRET_KEY_FILE)
 	  $(RUN_ENV) $(BIN)/python manage.py runserver $(HOST)
 
 test: $(BIN)/.installed
-	$(BIN)/ruff check walkmath planner tests
+	$(BIN)/ruff check walkmath planner tests fixtures manage.py
 	$(BIN)/python -m pytest $(PYTEST_ARGS); status=$$?; \
 	  if [ $$status -eq 5 ]; then echo 'pytest collected no tests'; else exit $$status; fi
 
@@ -56,5 +56,5 @@ loadtest: $(BIN)/.installed $(SECRET_KEY_FILE)
 	$(RUN_ENV) $(BIN)/python manage.py loadtest
 
 lint: $(BIN)/.installed
-	$(BIN)/ruff check walkmath planner tests
-	$(BIN)/ruff format --check walkmath planner tests
+	$(BIN)/ruff check walkmath planner tests fixtures manage.py
+	$(BIN)/ruff format --check walkmath planner tests fixtures manage.py
