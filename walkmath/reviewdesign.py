@@ -64,6 +64,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import partial
 
 import numpy as np
 
@@ -86,6 +87,7 @@ from walkmath.policy import (
     renewal_weights,
 )
 from walkmath.reviewchain import chain_work, gth_work, state_bound
+from walkmath.reviewstack import lost_sales_measures, stack_work
 from walkmath.steplaw import StepLaw
 
 MEASURES = ("cycle", "fill")
@@ -215,26 +217,32 @@ class _Shared:
             curves = finish_curves(bodies, on_hand, drop, end_drop, self.tables, at, self.unmet)
             yield gap, curves, np.full(at.size, ordered)
 
-    def chain_gap(self, gap: int, top: int):
-        """(gap, measures at S = gap..top, orders per period) by one chain solve per S."""
-        return (gap, *self.chain_curves(gap, np.arange(gap, top + 1)))
+    def chain_gaps(self, gaps, top: int):
+        """Yield (gap, measures at S = gap..top, orders per period) for each gap, every chain solved in one
+        stacked pass (walkmath/reviewstack.py)."""
+        gaps = list(gaps)
+        policies = [(big_s - gap, big_s) for gap in gaps for big_s in range(gap, top + 1)]
+        rows = lost_sales_measures(self.demand, policies, self.lead_time)
+        done = 0
+        for gap in gaps:
+            count = top + 1 - gap
+            yield (gap, *_stacked_curves(rows[done : done + count]))
+            done += count
 
-    def chain_curves(self, gap: int, levels: np.ndarray) -> tuple[dict[str, np.ndarray], np.ndarray]:
-        """Lost sales with a lead time: one pipeline chain solve per level (no shared form)."""
-        rows = [PeriodicReview(self.demand, int(S) - gap, int(S), self.lead_time, "lost").measures() for S in levels]
-        names = [name for name in PolicyMeasures.__dataclass_fields__ if name != "orders_per_period"]
-        curves = {name: np.array([getattr(row, name) for row in rows]) for name in names}
-        return curves, np.array([row.orders_per_period for row in rows])
+
+def _stacked_curves(rows: list[PolicyMeasures]) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    names = [name for name in PolicyMeasures.__dataclass_fields__ if name != "orders_per_period"]
+    curves = {name: np.array([getattr(row, name) for row in rows]) for name in names}
+    return curves, np.array([row.orders_per_period for row in rows])
 
 
-def _search_work(method: str, demand: StepLaw, lead_time: int, unmet: str, top: int, gaps: int, per_gap: int) -> Work:
+def _search_work(
+    method: str, demand: StepLaw, lead_time: int, unmet: str, top: int, gaps: int, per_gap: int, policies=list
+) -> Work:
+    """The shared forms' sweeps; lost sales with a lead time: the stacked chains of the (s, S) pairs
+    ``policies()`` lists (called only then: the grid of a shared form may be far too large to list)."""
     if unmet == "lost" and lead_time > 0:
-        # Per candidate: the state search and GTH, both on the state bound of the largest chain (gap 1, S = top).
-        states = state_bound(top, lead_time, top, 1)
-        each = chain_work(method, states, demand.probs.size).units + gth_work(states).units
-        return Work(
-            method, states, gaps * per_gap, demand.probs.size, copies=0, dense=each * gaps * per_gap, knob=_KNOB
-        )
+        return stack_work(method, demand, policies(), lead_time, _KNOB)
     lead_levels = lead_time * demand.highest + 1
     return Work(method, top + gaps + lead_levels, gaps, 7 * (top + 1) + lead_levels, knob=_KNOB)
 
@@ -336,13 +344,14 @@ def smallest_order_up_to(
     if not shared.shared and gap == 1:
         return _lost_order_up_to(shared, target, measure, top, include)
     levels = np.arange(gap, top + 1)
-    _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size).check()
+    policies = partial(_at_gap, gap, levels)
+    _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size, policies).check()
     if shared.shared:
         _, drop, orders = next(shared.drops([gap]))
         curves = shared.curves(drop, levels)
         orders = np.full(levels.size, orders)
     else:
-        curves, orders = shared.chain_curves(gap, levels)
+        curves, orders = _stacked_curves(lost_sales_measures(demand, policies(), lead_time))
     return _level_search(measure, target, levels, curves, orders)
 
 
@@ -407,7 +416,8 @@ def smallest_reorder_level(
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
     order_up_to = checks.whole("order_up_to", order_up_to, minimum=1, maximum=LEVEL_CAP)
-    _search_work("smallest_reorder_level", demand, lead_time, unmet, order_up_to, order_up_to, 1).check()
+    policies = partial(_at_level, order_up_to)
+    _search_work("smallest_reorder_level", demand, lead_time, unmet, order_up_to, order_up_to, 1, policies).check()
     shared = _Shared(demand, lead_time, unmet, order_up_to, order_up_to)
     level = np.array([order_up_to])
     rows, orders = [], []
@@ -416,8 +426,8 @@ def smallest_reorder_level(
             rows.append(shared.curves(drop, level))
             orders.append(ordered)
     else:
-        for gap in range(1, order_up_to + 1):
-            curves, ordered = shared.chain_curves(gap, level)
+        for measures in lost_sales_measures(demand, policies(), lead_time):
+            curves, ordered = _stacked_curves([measures])
             rows.append(curves)
             orders.append(float(ordered[0]))
     # Gaps 1..S are reorder levels S-1..0: reverse so that levels run upwards.
@@ -490,7 +500,9 @@ def best_policy(
     if target is not None:
         target = checks.open_probability("target", target)
     largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
-    _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top).check()
+    _search_work(
+        "best_policy", demand, lead_time, unmet, top, largest_gap, top, lambda: _cells(largest_gap, top)
+    ).check()
     shared = _Shared(demand, lead_time, unmet, top, largest_gap)
     good, bad = _SERVICE[measure]
     # The grid by S (rows) and s ascending (columns: column k holds gap largest_gap - k), so that its
@@ -499,7 +511,7 @@ def best_policy(
     grid = {name: np.zeros(shape) for name in ("cost", "service", "shortfall")}
     valid = np.zeros(shape, dtype=bool)
     gaps = range(1, largest_gap + 1)
-    pieces = shared.gap_curves(gaps) if shared.shared else (shared.chain_gap(gap, top) for gap in gaps)
+    pieces = shared.gap_curves(gaps) if shared.shared else shared.chain_gaps(gaps, top)
     for gap, curves, orders in pieces:
         column = largest_gap - gap
         grid["cost"][gap:, column] = (
@@ -512,6 +524,21 @@ def best_policy(
     if target is not None:
         feasible &= _meets(grid["service"], grid["shortfall"], target)
     return _choice(demand, lead_time, unmet, grid, valid, feasible)
+
+
+def _at_gap(gap: int, levels) -> list[tuple[int, int]]:
+    """The (s, S) candidates of an order-up-to search with this gap."""
+    return [(int(level) - gap, int(level)) for level in levels]
+
+
+def _at_level(order_up_to: int) -> list[tuple[int, int]]:
+    """The (s, S) candidates of a reorder-level search, by gap 1..S (reorder levels S - 1 down to 0)."""
+    return [(s, order_up_to) for s in range(order_up_to - 1, -1, -1)]
+
+
+def _cells(largest_gap: int, top: int) -> list[tuple[int, int]]:
+    """The (s, S) candidates of the cheapest-policy grid, by gap, then S."""
+    return [(big_s - gap, big_s) for gap in range(1, largest_gap + 1) for big_s in range(gap, top + 1)]
 
 
 def _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap) -> tuple[int, int]:
