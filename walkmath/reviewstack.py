@@ -256,25 +256,25 @@ def stacked_gth(work: np.ndarray, block: int = GTH_BLOCK) -> np.ndarray:
     """Stationary laws of a stack of irreducible stochastic matrices (``work[i]``), all at once; ``work`` is
     overwritten.
 
-    A smaller chain is padded with inert states (row: to state 0 with probability 1; column: zeros), which
-    GTH reduces by adding exact zeros (their laws come out 0). All are reduced together, step for step as
-    ``gth_steady_state`` does (pivots are sums of the current row's off-diagonal probabilities; block
-    products by ``np.matmul`` over the stack). Subtraction-free: each law keeps its entrywise relative
-    accuracy.
+    GTH state reduction (walkmath/reviewchain.py), states reduced from the last, in blocks of ``block``,
+    every matrix of the stack at each step: each pivot is a sum of the current row's probabilities to the
+    states left, never 1 - p_kk, and every update adds non-negative products, so each law keeps GTH's
+    entrywise relative accuracy. Near the top of the matrix a block is reduced as ``gth_steady_state``
+    does; further down, where many states come before the block, only the block's own entries are
+    reduced state by state and everything else takes the block's updates as matrix products
+    (``_reduce_block_by_products``), which is faster from a few hundred states on.
+
+    A smaller chain is padded with inert states (row: to state 0 with probability 1; column: zeros),
+    which add exact zeros and come out with probability 0.
     """
     count, size = work.shape[0], work.shape[1]
     last = size - 1
     while last > 0:
         first = max(1, last - block + 1)
-        for k in range(last, first - 1, -1):
-            pivot = work[:, k, :k].sum(axis=1)
-            if not np.all(pivot > 0):
-                raise ValueError("the stock chain is not irreducible on its closed class")
-            work[:, :k, k] /= pivot[:, None]
-            if k > first:
-                work[:, first:k, :k] += work[:, first:k, k, None] * work[:, k, None, :k]
-                work[:, :first, first:k] += work[:, :first, k, None] * work[:, k, None, first:k]
-        work[:, :first, :first] += np.matmul(work[:, :first, first : last + 1], work[:, first : last + 1, :first])
+        if first <= block:  # few states before the block: one rank-one update per state costs less
+            _reduce_block_by_steps(work, first, last)
+        else:
+            _reduce_block_by_products(work, first, last)
         last = first - 1
     weights = np.zeros((count, size))
     weights[:, 0] = 1.0
@@ -282,6 +282,60 @@ def stacked_gth(work: np.ndarray, block: int = GTH_BLOCK) -> np.ndarray:
         weights[:, k] = np.einsum("ij,ij->i", weights[:, :k], work[:, :k, k])  # non-negative terms
     totals = np.array([math.fsum(row) for row in weights])
     return weights / totals[:, None]
+
+
+def _reduce_block_by_steps(work: np.ndarray, first: int, last: int) -> None:
+    """Reduce states last..first of every matrix as ``gth_steady_state`` does: the block's rows and the
+    block's columns of the other rows one state at a time, the rest of the matrix by one product."""
+    for k in range(last, first - 1, -1):
+        pivot = work[:, k, :k].sum(axis=1)  # the probability of leaving k downwards: a sum, never 1 - p_kk
+        if not np.all(pivot > 0):
+            raise ValueError("the stock chain is not irreducible on its closed class")
+        work[:, :k, k] /= pivot[:, None]
+        if k > first:
+            work[:, first:k, :k] += work[:, first:k, k, None] * work[:, k, None, :k]
+            work[:, :first, first:k] += work[:, :first, k, None] * work[:, k, None, first:k]
+    span = slice(first, last + 1)
+    work[:, :first, :first] += np.matmul(work[:, :first, span], work[:, span, :first])
+
+
+def _reduce_block_by_products(work: np.ndarray, first: int, last: int) -> None:
+    """Reduce states last..first of every matrix with only the block's own entries touched state by state.
+
+    Each pivot is the current row's in-block sum plus its probability to the states before the block,
+    carried as a running row sum. Afterwards the block's upper part holds each reduced column's in-block
+    entries (scaled by its pivot), its lower part each row's in-block entries when it was reduced; the
+    block rows' entries before the block become (I - upper)^-1 times their first values, the other rows'
+    block columns their first values times V, V[:, k] = (e_k + V[:, k+1:] lower[k+1:, k]) / pivot_k (both
+    triangular series of non-negative terms), and the rest of the matrix takes their product.
+    """
+    count = work.shape[0]
+    span = slice(first, last + 1)
+    width = last - first + 1
+    inner = work[:, span, span].copy()
+    outside = work[:, span, :first].sum(axis=2)  # each block row's probability to the states before the block
+    pivots = np.empty((count, width))
+    for k in range(width - 1, -1, -1):
+        pivot = outside[:, k] + inner[:, k, :k].sum(axis=1)
+        if not np.all(pivot > 0):
+            raise ValueError("the stock chain is not irreducible on its closed class")
+        pivots[:, k] = pivot
+        inner[:, :k, k] /= pivot[:, None]
+        inner[:, :k, :k] += inner[:, :k, k, None] * inner[:, k, None, :k]
+        outside[:, :k] += inner[:, :k, k] * outside[:, k, None]
+    rows = np.zeros((count, width, width))
+    cols = np.zeros((count, width, width))
+    for k in range(width - 1, -1, -1):
+        rows[:, k, k] = 1.0
+        rows[:, k, :] += np.einsum("mj,mjc->mc", inner[:, k, k + 1 :], rows[:, k + 1 :, :])
+        cols[:, k, k] = 1.0
+        cols[:, :, k] += np.einsum("mrj,mj->mr", cols[:, :, k + 1 :], inner[:, k + 1 :, k])
+        cols[:, :, k] /= pivots[:, k, None]
+    row_part = np.matmul(rows, work[:, span, :first])
+    column_part = np.matmul(work[:, :first, span], cols)
+    work[:, span, span] = inner
+    work[:, :first, span] = column_part
+    work[:, :first, :first] += np.matmul(column_part, row_part)
 
 
 def stack_work(method: str, demand: StepLaw, policies, lead_time: int, knob: str = _KNOB) -> Work:
