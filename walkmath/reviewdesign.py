@@ -63,7 +63,7 @@ shortage penalty x mean units short (demand not served from stock).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import partial
 
 import numpy as np
@@ -86,7 +86,6 @@ from walkmath.policy import (
     orders_per_review,
     renewal_weights,
 )
-from walkmath.reviewchain import chain_work, gth_work, state_bound
 from walkmath.reviewstack import lost_sales_measures, stack_work
 from walkmath.steplaw import StepLaw
 
@@ -256,20 +255,14 @@ def _inside(include, gap: int, top: int) -> tuple[int, ...]:
 def _lost_solves_work(method: str, demand: StepLaw, lead_time: int, bound: int, include) -> Work:
     """Chain solves of a lost-sales order-up-to search: the bisection below ``bound``, the grid, ``include``.
 
-    Each solve (state search and GTH) is priced on the state bound of its level; the bisection's
-    levels, not known in advance, each at ``bound``.
+    The bisection's levels, not known in advance, are each priced at ``bound``, one at a time; the grid's
+    and ``include``'s in one stacked pass (``stack_work``).
     """
-    jumps = demand.probs.size
-
-    def solve(level: int) -> int:
-        states = state_bound(level, lead_time, level, 1)
-        return chain_work(method, states, jumps).units + gth_work(states).units
-
     bisection = math.ceil(math.log2(bound + 1)) + 2
-    levels = [*_grid(bound).tolist(), *include]
-    units = bisection * solve(bound) + sum(solve(level) for level in levels)
-    states = state_bound(max([bound, *include]), lead_time, max([bound, *include]), 1)
-    return Work(method, states, bisection + len(levels), jumps, copies=0, dense=units, knob=_KNOB)
+    single = stack_work(method, demand, [(bound - 1, bound)], lead_time, _KNOB)
+    levels = sorted({*_grid(bound).tolist(), *include})
+    rest = stack_work(method, demand, [(level - 1, level) for level in levels], lead_time, _KNOB)
+    return replace(rest, dense=rest.dense + bisection * single.units, periods=rest.periods + bisection)
 
 
 def _grid(bound: int) -> np.ndarray:
@@ -365,7 +358,7 @@ def _lost_order_up_to(shared: _Shared, target: float, measure: str, top: int, in
 
     def meets(level: int) -> bool:
         if level not in solved:
-            solved[level] = PeriodicReview(demand, level - 1, level, lead_time, "lost").measures()
+            solved[level] = lost_sales_measures(demand, [(level - 1, level)], lead_time)[0]
         row = solved[level]
         return bool(_meets(np.array(getattr(row, good)), np.array(getattr(row, bad)), target))
 
@@ -377,8 +370,10 @@ def _lost_order_up_to(shared: _Shared, target: float, measure: str, top: int, in
         low, high = (low, middle) if meets(middle) else (middle + 1, high)
     if low is not None:
         meets(low)
-    for level in [*_grid(bound).tolist(), *include]:
-        meets(level)
+    rest = sorted({*_grid(bound).tolist(), *include} - set(solved))  # the curve's other levels, in one pass
+    solved.update(
+        zip(rest, lost_sales_measures(demand, [(level - 1, level) for level in rest], lead_time), strict=True)
+    )
     levels = np.array(sorted(solved))
     names = [name for name in PolicyMeasures.__dataclass_fields__ if name != "orders_per_period"]
     curves = {name: np.array([getattr(solved[level], name) for level in levels]) for name in names}

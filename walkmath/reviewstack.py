@@ -344,24 +344,27 @@ def stack_work(method: str, demand: StepLaw, policies, lead_time: int, knob: str
     Each policy: its state set (``pipeline_count``, exact) times the demand's width of moves, the calls
     that build it and read its measures, and the GTH arithmetic on the padded size class of its whole
     state set (its closed class is no larger), size^3 + 2,000 size^2 as ``gth_work`` prices one chain.
-    Each stack: a dozen numpy calls per state of its size class, priced as if every size class up to the
-    largest were used once, plus one stack of the largest size per ``STACK_BYTES`` of padded matrices
-    and per family (a family may cut a size class in two), and each family's own few dozen calls.
+    Each stack: a dozen numpy calls per state of its size class. Stacks have distinct size classes, each
+    at most the class of one of its own policies' state sets, so their sizes add up to at most the sum
+    of all size classes up to the largest, and at most the sum of the policies' classes; plus one stack
+    of the largest size per ``STACK_BYTES`` of padded matrices and per family (a family may cut a size
+    class in two), and each family's own few dozen calls.
     """
     jumps = demand.probs.size
-    units = largest = memory = moves = 0
+    units = largest = memory = moves = own = 0
     for s, big_s in policies:
         states = pipeline_count(big_s, big_s - s, lead_time)
         padded = size_class(states)
         largest = max(largest, padded)
+        own += padded
         memory += 8 * padded * padded
         moves += states * jumps
         units += states * jumps * MOVE_UNITS + CALLS_PER_POLICY * CALL_UNITS + padded**3 + 2_000 * padded**2
     classes, padded = 0, 8
-    while padded <= largest:
+    while padded <= min(largest, own):
         classes += padded
         padded = size_class(padded + 1)
     families = moves // FAMILY_MOVES + 1
-    stacks = classes + largest * (memory // STACK_BYTES + families)
+    stacks = min(classes, own) + largest * (memory // STACK_BYTES + families)
     units += 12 * CALL_UNITS * stacks + 50 * CALL_UNITS * families
     return Work(method, max(largest, 1), len(policies), jumps, copies=0, dense=units, knob=knob)
