@@ -85,9 +85,11 @@ def best_policy_work(
     unmet = checks.choice("unmet", unmet, UNMET_RULES)
     largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
     # The search and its lead-time law; then the chosen policy's measures (bounded by the largest S and gap),
-    # which build their own lead-time law.
+    # which build their own lead-time law; lost sales with a lead time keep the chosen cell's from the search.
     lead = _lead_work(demand, lead_time, unmet)
     chosen = PeriodicReview(demand, top - largest_gap, top, lead_time, unmet).cost() + lead
+    if unmet == "lost" and lead_time > 0:
+        chosen = Work("best_policy", 1, 0, 1, copies=0)
     cells = partial(_cells, largest_gap, top)
     return _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top, cells) + lead + chosen
 

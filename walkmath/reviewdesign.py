@@ -222,6 +222,7 @@ class _Shared:
         gaps = list(gaps)
         policies = [(big_s - gap, big_s) for gap in gaps for big_s in range(gap, top + 1)]
         rows = lost_sales_measures(self.demand, policies, self.lead_time)
+        self.solved = dict(zip(policies, rows, strict=True))  # the chosen policy's measures, not solved again
         done = 0
         for gap in gaps:
             count = top + 1 - gap
@@ -518,7 +519,7 @@ def best_policy(
     feasible = valid.copy()
     if target is not None:
         feasible &= _meets(grid["service"], grid["shortfall"], target)
-    return _choice(demand, lead_time, unmet, grid, valid, feasible)
+    return _choice(demand, lead_time, unmet, grid, valid, feasible, getattr(shared, "solved", {}))
 
 
 def _at_gap(gap: int, levels) -> list[tuple[int, int]]:
@@ -563,8 +564,11 @@ def _price(name: str, value, positive: bool = False) -> float:
     return price
 
 
-def _choice(demand, lead_time, unmet, grid, valid, feasible) -> PolicyChoice:
+def _choice(demand, lead_time, unmet, grid, valid, feasible, solved) -> PolicyChoice:
     """The cheapest feasible cell of the (S, s) grid, and the cheapest feasible s for each S.
+
+    ``solved`` maps (s, S) to measures already worked out (lost sales with a lead time: every cell);
+    other chosen policies are solved here.
 
     Ties go to the smallest S, then the smallest s (the first cell in row order, columns by s).
     """
@@ -579,7 +583,7 @@ def _choice(demand, lead_time, unmet, grid, valid, feasible) -> PolicyChoice:
         pick = int(np.argmin(best_costs))  # the first: the smallest S
         row = rows[pick]
         s, big_s, cost = int(reorder_level[row, column[row]]), int(row), float(best_costs[pick])
-        measures = PeriodicReview(demand, s, big_s, lead_time, unmet).measures()
+        measures = solved.get((s, big_s)) or PeriodicReview(demand, s, big_s, lead_time, unmet).measures()
     else:
         s = big_s = cost = measures = None
     return PolicyChoice(
