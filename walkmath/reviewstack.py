@@ -35,7 +35,7 @@ import numpy as np
 from scipy import sparse
 from scipy.sparse import csgraph
 
-from walkmath.cost import Work
+from walkmath.cost import WORK_CAP, Work
 from walkmath.policy import DemandTables, PolicyMeasures, count_probs, end_drop_law, measure_curves
 from walkmath.reviewchain import GTH_BLOCK
 from walkmath.steplaw import StepLaw
@@ -50,6 +50,8 @@ CALL_UNITS = 20_000
 CALLS_PER_POLICY = 60
 # Cost of one (state, demand) move built with numpy (index arithmetic on a few arrays), in the same units.
 MOVE_UNITS = 200
+# Units past which pricing stops adding policies (the price is then far past any cap).
+PRICE_STOP = 10**6 * WORK_CAP
 _KNOB = "lower the order-up-to level, shorten the lead time or coarsen the demand units"
 
 
@@ -348,7 +350,8 @@ def stack_work(method: str, demand: StepLaw, policies, lead_time: int, knob: str
     at most the class of one of its own policies' state sets, so their sizes add up to at most the sum
     of all size classes up to the largest, and at most the sum of the policies' classes; plus one stack
     of the largest size per ``STACK_BYTES`` of padded matrices and per family (a family may cut a size
-    class in two), and each family's own few dozen calls.
+    class in two), and each family's own few dozen calls. Stops adding policies once past ``PRICE_STOP``
+    (a million times the engine's cap), so a far too large search is refused quickly.
     """
     jumps = demand.probs.size
     units = largest = memory = moves = own = 0
@@ -360,6 +363,8 @@ def stack_work(method: str, demand: StepLaw, policies, lead_time: int, knob: str
         memory += 8 * padded * padded
         moves += states * jumps
         units += states * jumps * MOVE_UNITS + CALLS_PER_POLICY * CALL_UNITS + padded**3 + 2_000 * padded**2
+        if units > PRICE_STOP:
+            break  # far past any cap: the rest of the policies cannot make it affordable
     classes, padded = 0, 8
     while padded <= min(largest, own):
         classes += padded
