@@ -87,6 +87,7 @@ from walkmath.policy import (
     renewal_weights,
 )
 from walkmath.reviewstack import lost_sales_measures, stack_work
+from walkmath.reviewsweep import lost_policy_measures, lost_policy_work
 from walkmath.steplaw import StepLaw
 
 MEASURES = ("cycle", "fill")
@@ -237,11 +238,23 @@ def _stacked_curves(rows: list[PolicyMeasures]) -> tuple[dict[str, np.ndarray], 
 
 
 def _search_work(
-    method: str, demand: StepLaw, lead_time: int, unmet: str, top: int, gaps: int, per_gap: int, policies=list
+    method: str,
+    demand: StepLaw,
+    lead_time: int,
+    unmet: str,
+    top: int,
+    gaps: int,
+    per_gap: int,
+    policies=list,
+    one_level: bool = False,
 ) -> Work:
-    """The shared forms' sweeps; lost sales with a lead time: the stacked chains of the (s, S) pairs
-    ``policies()`` lists (called only then: the grid of a shared form may be far too large to list)."""
+    """The shared forms' sweeps; lost sales with a lead time: the chains of the (s, S) pairs ``policies()``
+    lists (called only then: the grid of a shared form may be far too large to list), stacked
+    (walkmath/reviewstack.py) or, for a reorder-level search (``one_level``), partly read off one shared
+    reduction (walkmath/reviewsweep.py)."""
     if unmet == "lost" and lead_time > 0:
+        if one_level:
+            return lost_policy_work(method, demand, policies(), lead_time, _KNOB)
         return stack_work(method, demand, policies(), lead_time, _KNOB)
     lead_levels = lead_time * demand.highest + 1
     return Work(method, top + gaps + lead_levels, gaps, 7 * (top + 1) + lead_levels, knob=_KNOB)
@@ -413,7 +426,9 @@ def smallest_reorder_level(
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
     order_up_to = checks.whole("order_up_to", order_up_to, minimum=1, maximum=LEVEL_CAP)
     policies = partial(_at_level, order_up_to)
-    _search_work("smallest_reorder_level", demand, lead_time, unmet, order_up_to, order_up_to, 1, policies).check()
+    _search_work(
+        "smallest_reorder_level", demand, lead_time, unmet, order_up_to, order_up_to, 1, policies, one_level=True
+    ).check()
     shared = _Shared(demand, lead_time, unmet, order_up_to, order_up_to)
     level = np.array([order_up_to])
     rows, orders = [], []
@@ -422,7 +437,7 @@ def smallest_reorder_level(
             rows.append(shared.curves(drop, level))
             orders.append(ordered)
     else:
-        for measures in lost_sales_measures(demand, policies(), lead_time):
+        for measures in lost_policy_measures(demand, policies(), lead_time):
             curves, ordered = _stacked_curves([measures])
             rows.append(curves)
             orders.append(float(ordered[0]))
