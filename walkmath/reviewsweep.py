@@ -111,16 +111,10 @@ class LevelSweep:
             last = (int(starts[level - 1]) if level else work.shape[1]) - 1
             while last >= first_of_level:
                 first = max(first_of_level, last - GTH_BLOCK + 1)
-                for k in range(last, first - 1, -1):
-                    pivot = float(np.sum(work[1, k, :k]))  # leaving k for the states left: never 1 - p_kk
-                    if not pivot > 0:
-                        raise ValueError("the shared reduction met a state that never climbs back")
-                    work[:, :k, k] /= pivot
-                    if k > first:
-                        work[1, first:k, :k] += np.outer(work[1, first:k, k], work[1, k, :k])
-                        work[:, :first, first:k] += work[:, :first, k, None] * work[1, k, None, first:k]
-                span = slice(first, last + 1)
-                work[:, :first, :first] += np.matmul(work[:, :first, span], work[1, span, :first])
+                if first <= GTH_BLOCK:  # few states before the block: one rank-one update per state costs less
+                    _reduce_ordering_block_by_steps(work, first, last)
+                else:
+                    _reduce_ordering_block(work, first, last)
                 last = first - 1
             if level >= lowest:
                 self.snapshots[level] = work[0, :first_of_level, :first_of_level].copy()
@@ -139,6 +133,58 @@ class LevelSweep:
         law = law / math.fsum(law)
         ordering = self.position <= reorder_level
         return _measures(law, self.on_hand, ordering, self.order_up_to, demand, tables)
+
+
+def _reduce_ordering_block_by_steps(work: np.ndarray, first: int, last: int) -> None:
+    """Reduce states last..first with their ordering rows (``work[1]``) as ``gth_steady_state`` does,
+    updating both versions of the block's columns and of the rest (the block's own rows: ordering only)."""
+    for k in range(last, first - 1, -1):
+        pivot = math.fsum(work[1, k, :k])  # leaving k for the states left: never 1 - p_kk
+        if not pivot > 0:
+            raise ValueError("the shared reduction met a state that never climbs back")
+        work[:, :k, k] /= pivot
+        if k > first:
+            work[1, first:k, :k] += np.outer(work[1, first:k, k], work[1, k, :k])
+            work[:, :first, first:k] += work[:, :first, k, None] * work[1, k, None, first:k]
+    span = slice(first, last + 1)
+    work[:, :first, :first] += np.matmul(work[:, :first, span], work[1, span, :first])
+
+
+def _reduce_ordering_block(work: np.ndarray, first: int, last: int) -> None:
+    """Reduce states last..first with their ordering rows (``work[1]``), updating both versions of the rest.
+
+    As ``_reduce_block_by_products`` (walkmath/reviewstack.py) for one matrix: only the block's own ordering
+    rows are reduced state by state (each pivot the in-block sum plus the running sum before the block);
+    the block's rows before it become (I - upper)^-1 times their first values, the other rows' block
+    columns, in both versions, their first values times V (the same V: the reduced rows are the ordering
+    ones), and both versions of the rest take the product.
+    """
+    span = slice(first, last + 1)
+    width = last - first + 1
+    inner = work[1, span, span].copy()
+    outside = work[1, span, :first].sum(axis=1)
+    pivots = np.empty(width)
+    for k in range(width - 1, -1, -1):
+        pivot = outside[k] + math.fsum(inner[k, :k])  # leaving k for the states left: never 1 - p_kk
+        if not pivot > 0:
+            raise ValueError("the shared reduction met a state that never climbs back")
+        pivots[k] = pivot
+        inner[:k, k] /= pivot
+        inner[:k, :k] += np.outer(inner[:k, k], inner[k, :k])
+        outside[:k] += inner[:k, k] * outside[k]
+    rows = np.zeros((width, width))
+    cols = np.zeros((width, width))
+    for k in range(width - 1, -1, -1):
+        rows[k, k] = 1.0
+        rows[k, :] += inner[k, k + 1 :] @ rows[k + 1 :, :]
+        cols[k, k] = 1.0
+        cols[:, k] += cols[:, k + 1 :] @ inner[k + 1 :, k]
+        cols[:, k] /= pivots[k]
+    row_part = rows @ work[1, span, :first]
+    column_part = np.matmul(work[:, :first, span], cols)
+    work[1, span, span] = inner
+    work[:, :first, span] = column_part
+    work[:, :first, :first] += np.matmul(column_part, row_part)
 
 
 def _steady_state(censored: np.ndarray) -> np.ndarray:
