@@ -12,8 +12,21 @@ built from shared pieces rather than one policy solve per candidate:
   measure over all S is one direct convolution with a one-period demand table.
 
 Lost sales with a lead time have no such shared form: the pipeline chain on
-(on hand, orders due) changes with S, and each policy is its own state search
-and GTH solve (walkmath/reviewchain.py). What is shared there:
+(on hand, orders due) changes with S, and with s, and is not the chain of a
+neighbouring policy shifted (the shelf is floored at 0 when a sale is lost), so
+each policy keeps its own exact steady state (GTH, walkmath/reviewchain.py).
+What is shared there:
+
+* every candidate's chain is built with numpy from one known state set and the
+  chains of one size class are reduced together along an array axis
+  (walkmath/reviewstack.py): one pass for the cheapest policy's whole grid, an
+  order-up-to search with a gap above 1, or a reorder-level search; no Python
+  loop over states, demands or candidates;
+* for a reorder-level search (one S, every s), the chains share the GTH
+  reduction of the low positions, where every chain s' >= s orders: one sweep
+  keeping both versions of each row left serves them all, and each s needs GTH
+  only above it and a triangular solve back (walkmath/reviewsweep.py); which
+  reorder levels use it is chosen by price (small gaps: few states above s);
 
 * for an order-up-to policy (s = S - 1), the search is a bisection over S
   (``smallest_order_up_to``), which is sound because both facts below are
@@ -47,13 +60,16 @@ and GTH solve (walkmath/reviewchain.py). What is shared there:
      therefore an S at which lost sales meet the target: the bisection's top.
 
   Cost: the backorder search, then at most ceil(log2 S_b) + 2 chain solves
-  (S_b the backorder answer) plus a coarse grid of ``GRID_POINTS`` levels and
-  any levels the caller asks for (``include``), each priced at the largest of
-  them (``_lost_solves_work``), instead of one solve for every S up to the
-  search's top; the curve holds only the levels solved, each exact on its own,
-  made monotone by a running max / min (fact 1).
-* the one-period demand tables are built once per policy solve; the chains
-  themselves share nothing (each candidate's states are found afresh).
+  (S_b the backorder answer, each priced at it) plus a coarse grid of
+  ``GRID_POINTS`` levels and any levels the caller asks for (``include``), in
+  one stacked pass (``_lost_solves_work``), instead of one solve for every S up
+  to the search's top; the curve holds only the levels solved, each exact on its
+  own, made monotone by a running max / min (fact 1).
+
+Every candidate's price is its own: its exact state count (``pipeline_count``),
+the GTH arithmetic on its padded size, and the numpy calls of its stack
+(``stack_work``, ``lost_policy_work``), so a grid of many small chains is priced
+as the small chains it holds, not as many copies of the largest.
 
 Service measures: "cycle" = P(no stock-out in a period), "fill" = fill rate.
 Cost per period = holding x mean on hand + order cost x orders per period +
@@ -419,7 +435,8 @@ def smallest_reorder_level(
     """Smallest reorder level s in 0..S-1, for a given S, whose long-run service meets ``target``.
 
     A higher s orders sooner, so service grows with s (for the shared forms; lost sales with a lead
-    time solve each s and force no monotonicity, the answer being the first s meeting the target).
+    time solve each s, partly from one shared reduction, and force no monotonicity, the answer being the
+    first s meeting the target).
     The drop laws for gaps S - s = 1..S come one from the other (one shifted copy each); each is read at
     the one level S by dot products. Curves monotone in s.
     """
