@@ -18,6 +18,7 @@ import numpy as np
 
 import walkmath as wm
 from walkmath.reviewstack import lost_sales_measures
+from walkmath.reviewsweep import lost_policy_measures
 
 UP, DOWN = 0.3, 0.3
 
@@ -244,6 +245,7 @@ def lost_sales_rows(rows: list) -> None:
     """
     fields = [name for name in wm.PolicyMeasures.__dataclass_fields__ if name != "mean_backorders"]
     poisson = wm.StepLaw.poisson
+    stacked, swept = lost_sales_measures, lost_policy_measures  # what each solver uses
     cases = [
         (
             "cheapest (s, S), Poisson 5/day, lead 1, S <= 40, gap <= 20",
@@ -253,6 +255,17 @@ def lost_sales_rows(rows: list) -> None:
                 d, holding=1.0, order_cost=20.0, lead_time=1, unmet="lost", top=40, largest_gap=20
             ),
             lambda out: zip(out.reorder_levels.tolist(), out.order_up_to_levels.tolist(), strict=True),
+            stacked,
+        ),
+        (
+            "cheapest (s, S), Poisson 2/day, lead 2, S <= 20, gap <= 10",
+            poisson(mean=2.0),
+            2,
+            lambda d: wm.best_policy(
+                d, holding=1.0, order_cost=20.0, lead_time=2, unmet="lost", top=20, largest_gap=10
+            ),
+            lambda out: zip(out.reorder_levels.tolist(), out.order_up_to_levels.tolist(), strict=True),
+            stacked,
         ),
         (
             "smallest reorder level, Poisson 20/day, lead 1, S = 100",
@@ -260,6 +273,15 @@ def lost_sales_rows(rows: list) -> None:
             1,
             lambda d: wm.smallest_reorder_level(d, 100, 0.95, "cycle", 1, "lost"),
             lambda out: ((level, 100) for level in out.levels.tolist()),
+            swept,
+        ),
+        (
+            "smallest reorder level, Poisson 5/day, lead 2, S = 30",
+            poisson(mean=5.0),
+            2,
+            lambda d: wm.smallest_reorder_level(d, 30, 0.95, "cycle", 2, "lost"),
+            lambda out: ((level, 30) for level in out.levels.tolist()),
+            swept,
         ),
         (
             "smallest order-up-to, gap 10, Poisson 5/day, lead 2, S <= 40",
@@ -267,6 +289,7 @@ def lost_sales_rows(rows: list) -> None:
             2,
             lambda d: wm.smallest_order_up_to(d, 0.95, "fill", 2, "lost", gap=10, top=40),
             lambda out: ((level - 10, level) for level in out.levels.tolist()),
+            stacked,
         ),
         (
             "smallest order-up-to, gap 1 (bisection), Poisson 3/day, lead 2",
@@ -274,12 +297,13 @@ def lost_sales_rows(rows: list) -> None:
             2,
             lambda d: wm.smallest_order_up_to(d, 0.99, "fill", 2, "lost"),
             lambda out: ((level - 1, level) for level in out.levels.tolist()),
+            stacked,
         ),
     ]
-    for name, demand, lead_time, solve, candidates in cases:
+    for name, demand, lead_time, solve, candidates, shared_path in cases:
         shared, out = best_time(lambda solve=solve, demand=demand: solve(demand), repeats=2)
         policies = list(candidates(out))
-        solved = lost_sales_measures(demand, policies, lead_time)
+        solved = shared_path(demand, policies, lead_time)
         baseline, reference = best_time(
             lambda p=policies, d=demand, lead=lead_time: [
                 wm.PeriodicReview(d, s, S, lead, "lost").measures() for s, S in p
