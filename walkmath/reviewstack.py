@@ -81,6 +81,20 @@ def pipeline_states(order_up_to: int, gap: int, lead_time: int) -> np.ndarray:
     return states[np.lexsort(states.T[::-1])]
 
 
+def row_keys(rows: np.ndarray, *others: np.ndarray) -> list[np.ndarray]:
+    """Integer keys for rows of non-negative whole numbers (all of one width): equal rows get equal keys,
+    and keys follow the rows' lexicographic order. Digits in base (largest + 1) when they fit in 62 bits,
+    else each row's rank among all the rows given (``np.unique``: slower, for many orders due)."""
+    arrays = (rows, *others)
+    base = max(int(array.max()) for array in arrays if array.size) + 1
+    width = rows.shape[1]
+    if base**width < 2**62:
+        scale = base ** np.arange(width - 1, -1, -1, dtype=np.int64)
+        return [array @ scale for array in arrays]
+    _, rank = np.unique(np.concatenate(arrays), axis=0, return_inverse=True)
+    return np.split(rank.reshape(-1), np.cumsum([array.shape[0] for array in arrays])[:-1])
+
+
 def pipeline_count(order_up_to: int, gap: int, lead_time: int) -> int:
     """Number of rows ``pipeline_states`` returns, in closed form (no rows built).
 
@@ -141,14 +155,16 @@ class _Family:
             nxt[:, 0] = left + states[rows, 1]
             nxt[:, 1:-1] = states[rows, 2:]
             nxt[:, -1] = order[rows]
-        base = int(order_up_to.max()) + 1
-        if count * base**width >= 2**62:
-            raise ValueError("too many orders due to number the states")  # priced far past the cap first
-        scale = base ** np.arange(width - 1, -1, -1, dtype=np.int64)
-        stride = base**width
-        keys = owner * stride + states @ scale  # increasing: policies in turn, each's rows in lexicographic order
-        cols = np.searchsorted(keys, owner[rows] * stride + nxt @ scale)
-        starts = np.searchsorted(keys, np.arange(count) * stride + order_up_to[np.cumsum(sizes) - sizes] * scale[0])
+        firsts = np.cumsum(sizes) - sizes
+        start_rows = np.zeros((count, width), dtype=np.int64)
+        start_rows[:, 0] = order_up_to[firsts]  # S on hand, nothing due
+        keys, cols, starts = row_keys(
+            np.column_stack([owner, states]),
+            np.column_stack([owner[rows], nxt]),
+            np.column_stack([np.arange(count), start_rows]),
+        )
+        cols = np.searchsorted(keys, cols)  # keys increase: policies in turn, each's rows in lexicographic order
+        starts = np.searchsorted(keys, starts)
         total = states.shape[0]
         graph = sparse.csr_matrix(
             (np.ones(rows.size + count), (np.append(rows, np.full(count, total)), np.append(cols, starts))),

@@ -47,6 +47,7 @@ from walkmath.reviewstack import (
     lost_sales_measures,
     pipeline_count,
     pipeline_states,
+    row_keys,
     size_class,
     stack_work,
     stacked_gth,
@@ -81,14 +82,8 @@ class LevelSweep:
         left = np.concatenate([self.on_hand[rows] - demand_units, np.zeros(short.size, dtype=np.int64)])
         weights = np.concatenate([probs[demand_units], unserved[short]])
         rows = np.concatenate([rows, short])
-        base = order_up_to + 1
-        if base**width >= 2**62:
-            raise ValueError("too many orders due to number the states")  # priced far past the cap first
-        scale = base ** np.arange(width - 1, -1, -1, dtype=np.int64)
-        keys = states @ scale
-        order_keys = np.argsort(keys)
-        work = np.zeros((2, size, size))  # [0]: waiting rows, [1]: ordering rows
-        for version, order in enumerate((np.zeros(size, dtype=np.int64), order_up_to - position)):
+        nexts = []
+        for order in (np.zeros(size, dtype=np.int64), order_up_to - position):  # waiting, ordering
             nxt = np.empty((rows.size, width), dtype=np.int64)
             if lead_time == 1:
                 nxt[:, 0] = left + order[rows]
@@ -96,7 +91,12 @@ class LevelSweep:
                 nxt[:, 0] = left + states[rows, 1]
                 nxt[:, 1:-1] = states[rows, 2:]
                 nxt[:, -1] = order[rows]
-            cols = order_keys[np.searchsorted(keys[order_keys], nxt @ scale)]
+            nexts.append(nxt)
+        keys, *next_keys = row_keys(states, *nexts)
+        order_keys = np.argsort(keys)
+        work = np.zeros((2, size, size))  # [0]: waiting rows, [1]: ordering rows
+        for version, targets in enumerate(next_keys):
+            cols = order_keys[np.searchsorted(keys[order_keys], targets)]
             np.add.at(work[version], (rows, cols), weights)
         self.snapshots: dict[int, np.ndarray] = {}
         self.work = work

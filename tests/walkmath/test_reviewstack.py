@@ -185,3 +185,12 @@ def test_price_grows_with_the_policies_and_covers_each_closed_class_solve():
         chain = _pipeline(wm.PeriodicReview(demand, s, top, 2, "lost"), top)
         solves += gth_work(closed_class((chain.transitions + chain.shortage_transitions).tocsr()).size).units
     assert many >= solves
+
+
+def test_many_orders_due_are_numbered_by_rank_when_their_digits_do_not_fit():
+    # Lead time 30 with S = 12: 13^30 passes 62 bits, so the states are numbered by their lexicographic
+    # rank (np.unique); orders are 0 or 10..12, so at most one is due and the chains stay small.
+    demand = wm.StepLaw.poisson(mean=0.3)
+    policies = [(2, 12), (1, 11), (0, 10)]
+    for got, (s, top) in zip(lost_sales_measures(demand, policies, 30), policies, strict=True):
+        assert_same_measures(got, wm.PeriodicReview(demand, s, top, 30, "lost").measures())
