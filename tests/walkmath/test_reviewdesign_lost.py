@@ -254,3 +254,21 @@ def test_order_up_to_curve_from_the_stack_is_monotone_in_the_level(mean, lead_ti
     for name in ("stockout_probability", "unfilled_share", "mean_short"):
         assert np.all(-np.diff([getattr(row, name) for row in rows]) >= 0), name
     assert np.all(np.diff([row.mean_on_hand for row in rows]) >= 0)
+
+
+def test_reorder_level_curve_from_the_shared_reduction_equals_one_solve_per_level():
+    # Poisson 3 a period, S = 20, lead time 2: the price gives reorder levels 15..19 to the shared
+    # reduction (walkmath/reviewsweep.py), the rest to the stacked pass; every level against its own solve.
+    from walkmath.reviewsweep import plan
+
+    demand = wm.StepLaw.poisson(mean=3.0)
+    assert plan(demand, [(s, 20) for s in range(20)], 2)[0] == {20: 15}
+    search = wm.smallest_reorder_level(demand, 20, 0.97, "fill", 2, "lost")
+    rows = reference_measures(demand, [(s, 20) for s in range(20)], 2)
+    assert close(search.fill_rate, np.array([row.fill_rate for row in rows]))
+    assert close(search.shortfall, np.array([row.unfilled_share for row in rows]))
+    assert close(search.stockout, np.array([row.stockout_probability for row in rows]))
+    assert close(search.mean_on_hand, np.array([row.mean_on_hand for row in rows]))
+    assert close(search.orders_per_period, np.array([row.orders_per_period for row in rows]))
+    meets = [row.unfilled_share <= 1 - 0.97 for row in rows]
+    assert search.answer == meets.index(True)
