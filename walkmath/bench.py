@@ -1,6 +1,7 @@
 """Benchmark: ``python -m walkmath.bench`` prints one table of timings and ratios.
 
-``python -m walkmath.bench portfolio`` times many items at once instead (``walkmath.bench_portfolio``).
+``python -m walkmath.bench portfolio`` times many items at once instead (``walkmath.bench_portfolio``);
+``python -m walkmath.bench lost`` only the design solvers with lost sales and a lead time.
 
 Baselines are written here, for the same walk: a dense K x K matrix-vector
 product per period, and a minimal numpy slicing loop (three shifted adds per
@@ -16,6 +17,8 @@ import time
 import numpy as np
 
 import walkmath as wm
+from walkmath.reviewstack import lost_sales_measures
+from walkmath.reviewsweep import lost_policy_measures
 
 UP, DOWN = 0.3, 0.3
 
@@ -233,6 +236,94 @@ def risk_band_rows(rows: list, draws: int = 200) -> None:
         rows.append((f"risk band, {draws} draws: {name}", batched, note))
 
 
+def lost_sales_rows(rows: list) -> None:
+    """The design solvers with lost sales and a lead time against one PeriodicReview solve per candidate.
+
+    Run with OPENBLAS_NUM_THREADS=1, as the app runs (planner/settings.py). The baseline is the solvers'
+    former inner loop (a Python state search and a GTH per (s, S)) over the candidates the solver itself
+    works out; agreement is the largest relative difference of any measure.
+    """
+    fields = [name for name in wm.PolicyMeasures.__dataclass_fields__ if name != "mean_backorders"]
+    poisson = wm.StepLaw.poisson
+    stacked, swept = lost_sales_measures, lost_policy_measures  # what each solver uses
+    cases = [
+        (
+            "cheapest (s, S), Poisson 5/day, lead 1, S <= 40, gap <= 20",
+            poisson(mean=5.0),
+            1,
+            lambda d: wm.best_policy(
+                d, holding=1.0, order_cost=20.0, lead_time=1, unmet="lost", top=40, largest_gap=20
+            ),
+            lambda out: zip(out.reorder_levels.tolist(), out.order_up_to_levels.tolist(), strict=True),
+            stacked,
+        ),
+        (
+            "cheapest (s, S), Poisson 2/day, lead 2, S <= 20, gap <= 10",
+            poisson(mean=2.0),
+            2,
+            lambda d: wm.best_policy(
+                d, holding=1.0, order_cost=20.0, lead_time=2, unmet="lost", top=20, largest_gap=10
+            ),
+            lambda out: zip(out.reorder_levels.tolist(), out.order_up_to_levels.tolist(), strict=True),
+            stacked,
+        ),
+        (
+            "smallest reorder level, Poisson 20/day, lead 1, S = 100",
+            poisson(mean=20.0),
+            1,
+            lambda d: wm.smallest_reorder_level(d, 100, 0.95, "cycle", 1, "lost"),
+            lambda out: ((level, 100) for level in out.levels.tolist()),
+            swept,
+        ),
+        (
+            "smallest reorder level, Poisson 5/day, lead 2, S = 30",
+            poisson(mean=5.0),
+            2,
+            lambda d: wm.smallest_reorder_level(d, 30, 0.95, "cycle", 2, "lost"),
+            lambda out: ((level, 30) for level in out.levels.tolist()),
+            swept,
+        ),
+        (
+            "smallest order-up-to, gap 10, Poisson 5/day, lead 2, S <= 40",
+            poisson(mean=5.0),
+            2,
+            lambda d: wm.smallest_order_up_to(d, 0.95, "fill", 2, "lost", gap=10, top=40),
+            lambda out: ((level - 10, level) for level in out.levels.tolist()),
+            stacked,
+        ),
+        (
+            "smallest order-up-to, gap 1 (bisection), Poisson 3/day, lead 2",
+            poisson(mean=3.0),
+            2,
+            lambda d: wm.smallest_order_up_to(d, 0.99, "fill", 2, "lost"),
+            lambda out: ((level - 1, level) for level in out.levels.tolist()),
+            stacked,
+        ),
+    ]
+    for name, demand, lead_time, solve, candidates, shared_path in cases:
+        shared, out = best_time(lambda solve=solve, demand=demand: solve(demand), repeats=2)
+        policies = list(candidates(out))
+        solved = shared_path(demand, policies, lead_time)
+        baseline, reference = best_time(
+            lambda p=policies, d=demand, lead=lead_time: [
+                wm.PeriodicReview(d, s, S, lead, "lost").measures() for s, S in p
+            ],
+            repeats=1,
+        )
+        worst = max(
+            _relative(np.array([getattr(a, f) for a in solved]), np.array([getattr(b, f) for b in reference]))
+            for f in fields
+        )
+        rows.append(
+            (
+                f"lost sales: {name} ({len(policies)} candidates)",
+                shared,
+                f"per candidate / shared = {baseline / shared:.1f}",
+            )
+        )
+        rows.append(("  one PeriodicReview solve per candidate", baseline, f"measures agree to {worst:.0e} (relative)"))
+
+
 def _relative(got: np.ndarray, want: np.ndarray) -> float:
     return float(np.max(np.abs(got - want) / np.maximum(want, 1e-300)))
 
@@ -287,7 +378,11 @@ def main() -> None:
     daily_flows(rows)
     long_band(rows)
     risk_band_rows(rows)
+    lost_sales_rows(rows)
+    print_rows(rows)
 
+
+def print_rows(rows: list) -> None:
     print("| case | seconds | comparison |")
     print("|---|---:|---|")
     for name, seconds, note in rows:
@@ -301,5 +396,9 @@ if __name__ == "__main__":
         from walkmath import bench_portfolio
 
         bench_portfolio.main(sys.argv[2:])
+    elif sys.argv[1:2] == ["lost"]:  # only the lost-sales design solvers (a few seconds)
+        lost_rows: list = []
+        lost_sales_rows(lost_rows)
+        print_rows(lost_rows)
     else:
         main()

@@ -9,13 +9,17 @@ adds units exactly (walkmath/cost.py).
 
 from __future__ import annotations
 
+from functools import partial
+
 from walkmath import checks
 from walkmath.cost import Work
 from walkmath.distribution import law_power_work
 from walkmath.policy import LEAD_CAP, UNMET_RULES, PeriodicReview, _count_law
 from walkmath.reviewdesign import (
     MEASURES,
+    _at_gap,
     _base_stock_bound,
+    _cells,
     _inside,
     _lost_solves_work,
     _order_up_to_grid,
@@ -59,7 +63,8 @@ def order_up_to_work(
             bound, _ = _base_stock_bound(demand, target, measure, lead_time, top)
             lead = law_power_work(demand, lead_time)  # the backorder search's lead-time law
         return _lost_solves_work("smallest_order_up_to", demand, lead_time, bound, include) + lead
-    return _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, top - gap + 1) + lead
+    policies = partial(_at_gap, gap, range(gap, top + 1))
+    return _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, top - gap + 1, policies) + lead
 
 
 def best_policy_work(
@@ -80,10 +85,13 @@ def best_policy_work(
     unmet = checks.choice("unmet", unmet, UNMET_RULES)
     largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
     # The search and its lead-time law; then the chosen policy's measures (bounded by the largest S and gap),
-    # which build their own lead-time law.
+    # which build their own lead-time law; lost sales with a lead time keep the chosen cell's from the search.
     lead = _lead_work(demand, lead_time, unmet)
     chosen = PeriodicReview(demand, top - largest_gap, top, lead_time, unmet).cost() + lead
-    return _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top) + lead + chosen
+    if unmet == "lost" and lead_time > 0:
+        chosen = Work("best_policy", 1, 0, 1, copies=0)
+    cells = partial(_cells, largest_gap, top)
+    return _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top, cells) + lead + chosen
 
 
 def _lead_work(demand: StepLaw, lead_time: int, unmet: str) -> Work:

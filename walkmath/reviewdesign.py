@@ -12,8 +12,21 @@ built from shared pieces rather than one policy solve per candidate:
   measure over all S is one direct convolution with a one-period demand table.
 
 Lost sales with a lead time have no such shared form: the pipeline chain on
-(on hand, orders due) changes with S, and each policy is its own state search
-and GTH solve (walkmath/reviewchain.py). What is shared there:
+(on hand, orders due) changes with S, and with s, and is not the chain of a
+neighbouring policy shifted (the shelf is floored at 0 when a sale is lost), so
+each policy keeps its own exact steady state (GTH, walkmath/reviewchain.py).
+What is shared there:
+
+* every candidate's chain is built with numpy from one known state set and the
+  chains of one size class are reduced together along an array axis
+  (walkmath/reviewstack.py): one pass for the cheapest policy's whole grid, an
+  order-up-to search with a gap above 1, or a reorder-level search; no Python
+  loop over states, demands or candidates;
+* for a reorder-level search (one S, every s), the chains share the GTH
+  reduction of the low positions, where every chain s' >= s orders: one sweep
+  keeping both versions of each row left serves them all, and each s needs GTH
+  only above it and a triangular solve back (walkmath/reviewsweep.py); which
+  reorder levels use it is chosen by price (small gaps: few states above s);
 
 * for an order-up-to policy (s = S - 1), the search is a bisection over S
   (``smallest_order_up_to``), which is sound because both facts below are
@@ -47,13 +60,16 @@ and GTH solve (walkmath/reviewchain.py). What is shared there:
      therefore an S at which lost sales meet the target: the bisection's top.
 
   Cost: the backorder search, then at most ceil(log2 S_b) + 2 chain solves
-  (S_b the backorder answer) plus a coarse grid of ``GRID_POINTS`` levels and
-  any levels the caller asks for (``include``), each priced at the largest of
-  them (``_lost_solves_work``), instead of one solve for every S up to the
-  search's top; the curve holds only the levels solved, each exact on its own,
-  made monotone by a running max / min (fact 1).
-* the one-period demand tables are built once per policy solve; the chains
-  themselves share nothing (each candidate's states are found afresh).
+  (S_b the backorder answer, each priced at it) plus a coarse grid of
+  ``GRID_POINTS`` levels and any levels the caller asks for (``include``), in
+  one stacked pass (``_lost_solves_work``), instead of one solve for every S up
+  to the search's top; the curve holds only the levels solved, each exact on its
+  own, made monotone by a running max / min (fact 1).
+
+Every candidate's price is its own: its exact state count (``pipeline_count``),
+the GTH arithmetic on its padded size, and the numpy calls of its stack
+(``stack_work``, ``lost_policy_work``), so a grid of many small chains is priced
+as the small chains it holds, not as many copies of the largest.
 
 Service measures: "cycle" = P(no stock-out in a period), "fill" = fill rate.
 Cost per period = holding x mean on hand + order cost x orders per period +
@@ -63,7 +79,8 @@ shortage penalty x mean units short (demand not served from stock).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from functools import partial
 
 import numpy as np
 
@@ -85,7 +102,8 @@ from walkmath.policy import (
     orders_per_review,
     renewal_weights,
 )
-from walkmath.reviewchain import chain_work, gth_work, state_bound
+from walkmath.reviewstack import lost_sales_measures, stack_work
+from walkmath.reviewsweep import lost_policy_measures, lost_policy_work
 from walkmath.steplaw import StepLaw
 
 MEASURES = ("cycle", "fill")
@@ -215,26 +233,45 @@ class _Shared:
             curves = finish_curves(bodies, on_hand, drop, end_drop, self.tables, at, self.unmet)
             yield gap, curves, np.full(at.size, ordered)
 
-    def chain_gap(self, gap: int, top: int):
-        """(gap, measures at S = gap..top, orders per period) by one chain solve per S."""
-        return (gap, *self.chain_curves(gap, np.arange(gap, top + 1)))
+    def chain_gaps(self, gaps, top: int):
+        """Yield (gap, measures at S = gap..top, orders per period) for each gap, every chain solved in one
+        stacked pass (walkmath/reviewstack.py)."""
+        gaps = list(gaps)
+        policies = [(big_s - gap, big_s) for gap in gaps for big_s in range(gap, top + 1)]
+        rows = lost_sales_measures(self.demand, policies, self.lead_time)
+        self.solved = dict(zip(policies, rows, strict=True))  # the chosen policy's measures, not solved again
+        done = 0
+        for gap in gaps:
+            count = top + 1 - gap
+            yield (gap, *_stacked_curves(rows[done : done + count]))
+            done += count
 
-    def chain_curves(self, gap: int, levels: np.ndarray) -> tuple[dict[str, np.ndarray], np.ndarray]:
-        """Lost sales with a lead time: one pipeline chain solve per level (no shared form)."""
-        rows = [PeriodicReview(self.demand, int(S) - gap, int(S), self.lead_time, "lost").measures() for S in levels]
-        names = [name for name in PolicyMeasures.__dataclass_fields__ if name != "orders_per_period"]
-        curves = {name: np.array([getattr(row, name) for row in rows]) for name in names}
-        return curves, np.array([row.orders_per_period for row in rows])
+
+def _stacked_curves(rows: list[PolicyMeasures]) -> tuple[dict[str, np.ndarray], np.ndarray]:
+    names = [name for name in PolicyMeasures.__dataclass_fields__ if name != "orders_per_period"]
+    curves = {name: np.array([getattr(row, name) for row in rows]) for name in names}
+    return curves, np.array([row.orders_per_period for row in rows])
 
 
-def _search_work(method: str, demand: StepLaw, lead_time: int, unmet: str, top: int, gaps: int, per_gap: int) -> Work:
+def _search_work(
+    method: str,
+    demand: StepLaw,
+    lead_time: int,
+    unmet: str,
+    top: int,
+    gaps: int,
+    per_gap: int,
+    policies=list,
+    one_level: bool = False,
+) -> Work:
+    """The shared forms' sweeps; lost sales with a lead time: the chains of the (s, S) pairs ``policies()``
+    lists (called only then: the grid of a shared form may be far too large to list), stacked
+    (walkmath/reviewstack.py) or, for a reorder-level search (``one_level``), partly read off one shared
+    reduction (walkmath/reviewsweep.py)."""
     if unmet == "lost" and lead_time > 0:
-        # Per candidate: the state search and GTH, both on the state bound of the largest chain (gap 1, S = top).
-        states = state_bound(top, lead_time, top, 1)
-        each = chain_work(method, states, demand.probs.size).units + gth_work(states).units
-        return Work(
-            method, states, gaps * per_gap, demand.probs.size, copies=0, dense=each * gaps * per_gap, knob=_KNOB
-        )
+        if one_level:
+            return lost_policy_work(method, demand, policies(), lead_time, _KNOB)
+        return stack_work(method, demand, policies(), lead_time, _KNOB)
     lead_levels = lead_time * demand.highest + 1
     return Work(method, top + gaps + lead_levels, gaps, 7 * (top + 1) + lead_levels, knob=_KNOB)
 
@@ -248,20 +285,14 @@ def _inside(include, gap: int, top: int) -> tuple[int, ...]:
 def _lost_solves_work(method: str, demand: StepLaw, lead_time: int, bound: int, include) -> Work:
     """Chain solves of a lost-sales order-up-to search: the bisection below ``bound``, the grid, ``include``.
 
-    Each solve (state search and GTH) is priced on the state bound of its level; the bisection's
-    levels, not known in advance, each at ``bound``.
+    The bisection's levels, not known in advance, are each priced at ``bound``, one at a time; the grid's
+    and ``include``'s in one stacked pass (``stack_work``).
     """
-    jumps = demand.probs.size
-
-    def solve(level: int) -> int:
-        states = state_bound(level, lead_time, level, 1)
-        return chain_work(method, states, jumps).units + gth_work(states).units
-
     bisection = math.ceil(math.log2(bound + 1)) + 2
-    levels = [*_grid(bound).tolist(), *include]
-    units = bisection * solve(bound) + sum(solve(level) for level in levels)
-    states = state_bound(max([bound, *include]), lead_time, max([bound, *include]), 1)
-    return Work(method, states, bisection + len(levels), jumps, copies=0, dense=units, knob=_KNOB)
+    single = stack_work(method, demand, [(bound - 1, bound)], lead_time, _KNOB)
+    levels = sorted({*_grid(bound).tolist(), *include})
+    rest = stack_work(method, demand, [(level - 1, level) for level in levels], lead_time, _KNOB)
+    return replace(rest, dense=rest.dense + bisection * single.units, periods=rest.periods + bisection)
 
 
 def _grid(bound: int) -> np.ndarray:
@@ -336,13 +367,14 @@ def smallest_order_up_to(
     if not shared.shared and gap == 1:
         return _lost_order_up_to(shared, target, measure, top, include)
     levels = np.arange(gap, top + 1)
-    _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size).check()
+    policies = partial(_at_gap, gap, levels)
+    _search_work("smallest_order_up_to", demand, lead_time, unmet, top, 1, levels.size, policies).check()
     if shared.shared:
         _, drop, orders = next(shared.drops([gap]))
         curves = shared.curves(drop, levels)
         orders = np.full(levels.size, orders)
     else:
-        curves, orders = shared.chain_curves(gap, levels)
+        curves, orders = _stacked_curves(lost_sales_measures(demand, policies(), lead_time))
     return _level_search(measure, target, levels, curves, orders)
 
 
@@ -356,7 +388,7 @@ def _lost_order_up_to(shared: _Shared, target: float, measure: str, top: int, in
 
     def meets(level: int) -> bool:
         if level not in solved:
-            solved[level] = PeriodicReview(demand, level - 1, level, lead_time, "lost").measures()
+            solved[level] = lost_sales_measures(demand, [(level - 1, level)], lead_time)[0]
         row = solved[level]
         return bool(_meets(np.array(getattr(row, good)), np.array(getattr(row, bad)), target))
 
@@ -368,8 +400,10 @@ def _lost_order_up_to(shared: _Shared, target: float, measure: str, top: int, in
         low, high = (low, middle) if meets(middle) else (middle + 1, high)
     if low is not None:
         meets(low)
-    for level in [*_grid(bound).tolist(), *include]:
-        meets(level)
+    rest = sorted({*_grid(bound).tolist(), *include} - set(solved))  # the curve's other levels, in one pass
+    solved.update(
+        zip(rest, lost_sales_measures(demand, [(level - 1, level) for level in rest], lead_time), strict=True)
+    )
     levels = np.array(sorted(solved))
     names = [name for name in PolicyMeasures.__dataclass_fields__ if name != "orders_per_period"]
     curves = {name: np.array([getattr(solved[level], name) for level in levels]) for name in names}
@@ -401,13 +435,17 @@ def smallest_reorder_level(
     """Smallest reorder level s in 0..S-1, for a given S, whose long-run service meets ``target``.
 
     A higher s orders sooner, so service grows with s (for the shared forms; lost sales with a lead
-    time solve each s and force no monotonicity, the answer being the first s meeting the target).
+    time solve each s, partly from one shared reduction, and force no monotonicity, the answer being the
+    first s meeting the target).
     The drop laws for gaps S - s = 1..S come one from the other (one shifted copy each); each is read at
     the one level S by dot products. Curves monotone in s.
     """
     demand, target, measure, lead_time, unmet = _common(demand, target, measure, lead_time, unmet)
     order_up_to = checks.whole("order_up_to", order_up_to, minimum=1, maximum=LEVEL_CAP)
-    _search_work("smallest_reorder_level", demand, lead_time, unmet, order_up_to, order_up_to, 1).check()
+    policies = partial(_at_level, order_up_to)
+    _search_work(
+        "smallest_reorder_level", demand, lead_time, unmet, order_up_to, order_up_to, 1, policies, one_level=True
+    ).check()
     shared = _Shared(demand, lead_time, unmet, order_up_to, order_up_to)
     level = np.array([order_up_to])
     rows, orders = [], []
@@ -416,8 +454,8 @@ def smallest_reorder_level(
             rows.append(shared.curves(drop, level))
             orders.append(ordered)
     else:
-        for gap in range(1, order_up_to + 1):
-            curves, ordered = shared.chain_curves(gap, level)
+        for measures in lost_policy_measures(demand, policies(), lead_time):
+            curves, ordered = _stacked_curves([measures])
             rows.append(curves)
             orders.append(float(ordered[0]))
     # Gaps 1..S are reorder levels S-1..0: reverse so that levels run upwards.
@@ -490,7 +528,9 @@ def best_policy(
     if target is not None:
         target = checks.open_probability("target", target)
     largest_gap, top = _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap)
-    _search_work("best_policy", demand, lead_time, unmet, top, largest_gap, top).check()
+    _search_work(
+        "best_policy", demand, lead_time, unmet, top, largest_gap, top, lambda: _cells(largest_gap, top)
+    ).check()
     shared = _Shared(demand, lead_time, unmet, top, largest_gap)
     good, bad = _SERVICE[measure]
     # The grid by S (rows) and s ascending (columns: column k holds gap largest_gap - k), so that its
@@ -499,7 +539,7 @@ def best_policy(
     grid = {name: np.zeros(shape) for name in ("cost", "service", "shortfall")}
     valid = np.zeros(shape, dtype=bool)
     gaps = range(1, largest_gap + 1)
-    pieces = shared.gap_curves(gaps) if shared.shared else (shared.chain_gap(gap, top) for gap in gaps)
+    pieces = shared.gap_curves(gaps) if shared.shared else shared.chain_gaps(gaps, top)
     for gap, curves, orders in pieces:
         column = largest_gap - gap
         grid["cost"][gap:, column] = (
@@ -511,7 +551,22 @@ def best_policy(
     feasible = valid.copy()
     if target is not None:
         feasible &= _meets(grid["service"], grid["shortfall"], target)
-    return _choice(demand, lead_time, unmet, grid, valid, feasible)
+    return _choice(demand, lead_time, unmet, grid, valid, feasible, getattr(shared, "solved", {}))
+
+
+def _at_gap(gap: int, levels) -> list[tuple[int, int]]:
+    """The (s, S) candidates of an order-up-to search with this gap."""
+    return [(int(level) - gap, int(level)) for level in levels]
+
+
+def _at_level(order_up_to: int) -> list[tuple[int, int]]:
+    """The (s, S) candidates of a reorder-level search, by gap 1..S (reorder levels S - 1 down to 0)."""
+    return [(s, order_up_to) for s in range(order_up_to - 1, -1, -1)]
+
+
+def _cells(largest_gap: int, top: int) -> list[tuple[int, int]]:
+    """The (s, S) candidates of the cheapest-policy grid, by gap, then S."""
+    return [(big_s - gap, big_s) for gap in range(1, largest_gap + 1) for big_s in range(gap, top + 1)]
 
 
 def _policy_grid(demand, holding, order_cost, lead_time, unmet, top, largest_gap) -> tuple[int, int]:
@@ -541,8 +596,11 @@ def _price(name: str, value, positive: bool = False) -> float:
     return price
 
 
-def _choice(demand, lead_time, unmet, grid, valid, feasible) -> PolicyChoice:
+def _choice(demand, lead_time, unmet, grid, valid, feasible, solved) -> PolicyChoice:
     """The cheapest feasible cell of the (S, s) grid, and the cheapest feasible s for each S.
+
+    ``solved`` maps (s, S) to measures already worked out (lost sales with a lead time: every cell);
+    other chosen policies are solved here.
 
     Ties go to the smallest S, then the smallest s (the first cell in row order, columns by s).
     """
@@ -557,7 +615,7 @@ def _choice(demand, lead_time, unmet, grid, valid, feasible) -> PolicyChoice:
         pick = int(np.argmin(best_costs))  # the first: the smallest S
         row = rows[pick]
         s, big_s, cost = int(reorder_level[row, column[row]]), int(row), float(best_costs[pick])
-        measures = PeriodicReview(demand, s, big_s, lead_time, unmet).measures()
+        measures = solved.get((s, big_s)) or PeriodicReview(demand, s, big_s, lead_time, unmet).measures()
     else:
         s = big_s = cost = measures = None
     return PolicyChoice(

@@ -48,3 +48,22 @@ def test_search_prices_refuse_what_the_searches_refuse():
         order_up_to_work(demand, 2, "backorder", gap=0)
     with pytest.raises(ValueError, match="holding must be a finite number above 0"):
         best_policy_work(demand, holding=0.0, order_cost=1.0)
+
+
+@pytest.mark.parametrize("lead_time", [1, 2])
+def test_lost_sales_search_prices_cover_what_the_searches_check(monkeypatch, lead_time):
+    # Lost sales with a lead time: every candidate's chain in the stacked pass (walkmath/reviewstack.py).
+    demand = wm.StepLaw.poisson(mean=0.8)
+    priced = order_up_to_work(demand, lead_time, "lost", gap=3, top=10).units
+    spent = _checked_units(
+        monkeypatch, lambda: smallest_order_up_to(demand, 0.95, "fill", lead_time, "lost", gap=3, top=10)
+    )
+    assert spent > 0 and priced >= spent
+    priced = best_policy_work(demand, holding=1.0, order_cost=4.0, lead_time=lead_time, unmet="lost", top=9).units
+    spent = _checked_units(
+        monkeypatch,
+        lambda: best_policy(
+            demand, holding=1.0, order_cost=4.0, shortage_penalty=2.0, lead_time=lead_time, unmet="lost", top=9
+        ),
+    )
+    assert spent > 0 and priced >= spent

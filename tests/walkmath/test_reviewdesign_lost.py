@@ -138,3 +138,137 @@ def test_price_covers_what_the_search_solves():
 def test_too_large_a_search_is_refused_before_any_chain_is_solved():
     with pytest.raises(wm.ComputeTooLarge, match="lower top"):
         smallest_order_up_to(wm.StepLaw.poisson(mean=6.0), 0.99, "fill", 4, "lost")
+
+
+# -- every candidate solved in one stacked pass (walkmath/reviewstack.py) equals its own solve ----------------
+
+
+def reference_measures(demand, policies, lead_time):
+    """The per-candidate path: one PeriodicReview (state search and GTH) per (s, S)."""
+    return [wm.PeriodicReview(demand, s, top, lead_time, "lost").measures() for s, top in policies]
+
+
+def close(got, want):
+    # 1e-10 relative (the project's exactness rule); exact zeros stay exact zeros.
+    return np.all(got >= 0) and np.allclose(got, want, rtol=1e-10, atol=0)
+
+
+@settings(max_examples=12, deadline=None)
+@given(
+    mean=st.floats(0.3, 1.5),
+    lead_time=st.integers(1, 2),
+    top=st.integers(2, 9),
+    largest_gap=st.integers(1, 5),
+    order_cost=st.floats(0.0, 20.0),
+    penalty=st.floats(0.0, 30.0),
+    target=st.none() | st.floats(0.5, 0.99),
+)
+def test_cheapest_policy_grid_equals_one_solve_per_cell(mean, lead_time, top, largest_gap, order_cost, penalty, target):
+    demand = wm.StepLaw.poisson(mean=mean)
+    choice = wm.best_policy(
+        demand,
+        holding=1.0,
+        order_cost=order_cost,
+        shortage_penalty=penalty,
+        lead_time=lead_time,
+        unmet="lost",
+        target=target,
+        top=top,
+        largest_gap=largest_gap,
+    )
+    cells = list(zip(choice.reorder_levels.tolist(), choice.order_up_to_levels.tolist(), strict=True))
+    rows = reference_measures(demand, cells, lead_time)
+    cost = np.array([row.mean_on_hand + order_cost * row.orders_per_period + penalty * row.mean_short for row in rows])
+    service = np.array([row.in_stock_probability for row in rows])
+    shortfall = np.array([row.stockout_probability for row in rows])
+    assert close(choice.costs, cost) and close(choice.service, service) and close(choice.shortfall, shortfall)
+    feasible = np.ones(len(cells), dtype=bool) if target is None else shortfall <= 1 - target
+    if not feasible.any():
+        assert choice.order_up_to is None
+        return
+    best = min(cost[feasible])
+    # The chosen cell is a cheapest feasible one (to 1e-10: a near-tie may fall either way).
+    assert choice.cost == pytest.approx(best, rel=1e-10)
+    assert (choice.reorder_level, choice.order_up_to) in [cells[i] for i in np.flatnonzero(feasible)]
+
+
+@settings(max_examples=12, deadline=None)
+@given(
+    mean=st.floats(0.3, 2.0),
+    lead_time=st.integers(1, 2),
+    order_up_to=st.integers(1, 10),
+    target=st.floats(0.3, 0.99),
+    measure=st.sampled_from(["cycle", "fill"]),
+)
+def test_reorder_level_curve_equals_one_solve_per_level(mean, lead_time, order_up_to, target, measure):
+    demand = wm.StepLaw.poisson(mean=mean)
+    search = wm.smallest_reorder_level(demand, order_up_to, target, measure, lead_time, "lost")
+    assert search.levels.tolist() == list(range(order_up_to))
+    rows = reference_measures(demand, [(s, order_up_to) for s in range(order_up_to)], lead_time)
+    assert close(search.stockout, np.array([row.stockout_probability for row in rows]))
+    assert close(search.fill_rate, np.array([row.fill_rate for row in rows]))
+    assert close(search.mean_on_hand, np.array([row.mean_on_hand for row in rows]))
+    assert close(search.mean_short, np.array([row.mean_short for row in rows]))
+    assert close(search.orders_per_period, np.array([row.orders_per_period for row in rows]))
+    good, bad = (
+        ("in_stock_probability", "stockout_probability") if measure == "cycle" else ("fill_rate", "unfilled_share")
+    )
+    meets = [getattr(row, bad) <= 1 - target for row in rows]
+    assert search.answer == (meets.index(True) if any(meets) else None)
+    assert close(search.service, np.array([getattr(row, good) for row in rows]))
+
+
+@settings(max_examples=12, deadline=None)
+@given(
+    mean=st.floats(0.3, 2.0),
+    lead_time=st.integers(1, 2),
+    gap=st.integers(2, 5),
+    extra=st.integers(0, 6),
+    target=st.floats(0.3, 0.99),
+)
+def test_order_up_to_curve_with_a_larger_gap_equals_one_solve_per_level(mean, lead_time, gap, extra, target):
+    demand = wm.StepLaw.poisson(mean=mean)
+    top = gap + extra
+    search = smallest_order_up_to(demand, target, "fill", lead_time, "lost", gap=gap, top=top)
+    assert search.levels.tolist() == list(range(gap, top + 1))
+    rows = reference_measures(demand, [(level - gap, level) for level in range(gap, top + 1)], lead_time)
+    assert close(search.fill_rate, np.array([row.fill_rate for row in rows]))
+    assert close(search.shortfall, np.array([row.unfilled_share for row in rows]))
+    assert close(search.stockout, np.array([row.stockout_probability for row in rows]))
+    assert close(search.mean_on_hand, np.array([row.mean_on_hand for row in rows]))
+    meets = [row.unfilled_share <= 1 - target for row in rows]
+    assert search.answer == (gap + meets.index(True) if any(meets) else None)
+
+
+@settings(max_examples=10, deadline=None)
+@given(mean=st.floats(0.3, 2.0), lead_time=st.integers(1, 2), top=st.integers(2, 12))
+def test_order_up_to_curve_from_the_stack_is_monotone_in_the_level(mean, lead_time, top):
+    # Fact 1 of walkmath/reviewdesign.py's docstring (service grows with S for an order-up-to policy),
+    # checked on the raw stacked solves, with no running max or min applied: differences >= 0. Read on
+    # the quantities kept with relative accuracy (stock-out, unfilled share, units short), whose true
+    # values fall by a clear factor per unit of Poisson demand, and the mean on hand (about a unit apart).
+    from walkmath.reviewstack import lost_sales_measures
+
+    demand = wm.StepLaw.poisson(mean=mean)
+    rows = lost_sales_measures(demand, [(level - 1, level) for level in range(1, top + 1)], lead_time)
+    for name in ("stockout_probability", "unfilled_share", "mean_short"):
+        assert np.all(-np.diff([getattr(row, name) for row in rows]) >= 0), name
+    assert np.all(np.diff([row.mean_on_hand for row in rows]) >= 0)
+
+
+def test_reorder_level_curve_from_the_shared_reduction_equals_one_solve_per_level():
+    # Poisson 3 a period, S = 20, lead time 2: the price gives reorder levels 15..19 to the shared
+    # reduction (walkmath/reviewsweep.py), the rest to the stacked pass; every level against its own solve.
+    from walkmath.reviewsweep import plan
+
+    demand = wm.StepLaw.poisson(mean=3.0)
+    assert plan(demand, [(s, 20) for s in range(20)], 2)[0] == {20: 15}
+    search = wm.smallest_reorder_level(demand, 20, 0.97, "fill", 2, "lost")
+    rows = reference_measures(demand, [(s, 20) for s in range(20)], 2)
+    assert close(search.fill_rate, np.array([row.fill_rate for row in rows]))
+    assert close(search.shortfall, np.array([row.unfilled_share for row in rows]))
+    assert close(search.stockout, np.array([row.stockout_probability for row in rows]))
+    assert close(search.mean_on_hand, np.array([row.mean_on_hand for row in rows]))
+    assert close(search.orders_per_period, np.array([row.orders_per_period for row in rows]))
+    meets = [row.unfilled_share <= 1 - 0.97 for row in rows]
+    assert search.answer == meets.index(True)
