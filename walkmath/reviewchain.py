@@ -93,8 +93,10 @@ class ReviewChain:
     ):
         self.reorder_level, self.order_up_to, self.lead_time = reorder_level, order_up_to, lead_time
         support = np.flatnonzero(demand_probs > 0)
-        weights = demand_probs[support]
-        above = np.append(np.cumsum(demand_probs[::-1])[::-1][1:], 0.0)  # P(D > k), tail sums
+        # Plain lists for the search (it runs in Python, one state at a time); the support rises, so the
+        # demands a state can serve are a prefix of it.
+        steps = list(zip(support.tolist(), demand_probs[support].tolist(), strict=True))
+        above = np.append(np.cumsum(demand_probs[::-1])[::-1][1:], 0.0).tolist()  # P(D > k), tail sums
         index = {start: 0}
         states = [start]
         moves: list[tuple[int, int, float]] = []
@@ -116,12 +118,13 @@ class ReviewChain:
             position = on_hand + sum(due)
             order = order_up_to - position if position <= reorder_level else 0
             available = on_hand + order if lead_time == 0 else on_hand
-            ends = float(above[available]) if available < above.size else 0.0
+            ends = above[available] if available < len(above) else 0.0
             ended.append(ends)
             kept.append(available)
             ordering.append(order > 0)
-            served = support <= available
-            for units, p in zip(support[served].tolist(), weights[served].tolist(), strict=True):
+            for units, p in steps:
+                if units > available:
+                    break
                 moves.append((here, visit(self._next(available - units, due, order)), p))
             if shortage_moves and ends > 0:  # lost sales: the stock-out leaves nothing on hand
                 short.append((here, visit(self._next(0, due, order)), ends))
@@ -195,20 +198,25 @@ def gth_steady_state(matrix: np.ndarray, block: int = GTH_BLOCK) -> np.ndarray:
     work = np.array(matrix, dtype=float)
     size = work.shape[0]
     last = size - 1
+    # The rank-one updates are written as broadcast products (work[:, k, None] * work[None, k, :]): the same
+    # products as np.outer, added in the same order, without its per-call overhead (chains here are small, so
+    # the per-state numpy calls, not the arithmetic, set the time).
     while last > 0:
         first = max(1, last - block + 1)  # reduce states last, last - 1, ..., first
         for k in range(last, first - 1, -1):
-            pivot = float(np.sum(work[k, :k]))  # probability of leaving k downwards: a sum, never 1 - p_kk
+            row = work[k, :k]
+            pivot = float(row.sum())  # probability of leaving k downwards: a sum, never 1 - p_kk
             if pivot <= 0:
                 raise ValueError("the stock chain is not irreducible on its closed class")
-            work[:k, k] /= pivot
+            column = work[:k, k]
+            column /= pivot
             if k > first:  # the block's own rows (all columns) and the block's columns of the other rows
-                work[first:k, :k] += np.outer(work[first:k, k], work[k, :k])
-                work[:first, first:k] += np.outer(work[:first, k], work[k, first:k])
+                work[first:k, :k] += column[first:, None] * row
+                work[:first, first:k] += column[:first, None] * row[first:]
         work[:first, :first] += work[:first, first : last + 1] @ work[first : last + 1, :first]
         last = first - 1
     weights = np.zeros(size)
     weights[0] = 1.0
     for k in range(1, size):
-        weights[k] = float(weights[:k] @ work[:k, k])  # non-negative terms
+        weights[k] = weights[:k] @ work[:k, k]  # non-negative terms
     return weights / math.fsum(weights)
