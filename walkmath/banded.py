@@ -289,14 +289,23 @@ class BandedWalk:
         return sizing.smallest_start(self, horizon, stockout_target, overflow_target)
 
     def smallest_capacity(
-        self, horizon: int, overflow_target: float, stockout_target: float | None = None, *, cap: int = WORK_CAP
+        self,
+        horizon: int,
+        overflow_target: float,
+        stockout_target: float | None = None,
+        *,
+        cap: int = WORK_CAP,
+        own_overflow=None,
     ):
         """Smallest capacity (at least the start) meeting the targets at ``horizon`` (None if none can).
 
         A galloping then bisecting search from the start, each probe priced; the
-        whole search stays under ``cap`` units of work.
+        whole search stays under ``cap`` units of work. ``own_overflow``: this walk's
+        ``risk_by_start(horizon).overflow``, when the caller has it (the search's first guess reads it).
         """
-        return sizing.smallest_capacity(self, horizon, overflow_target, stockout_target, cap=cap)
+        return sizing.smallest_capacity(
+            self, horizon, overflow_target, stockout_target, cap=cap, own_overflow=own_overflow
+        )
 
     def risk_by_capacity(self, horizon: int, capacities) -> sizing.CapacityRisk:
         """Stock-out and overflow risk at ``horizon`` for each of ``capacities`` (for charts)."""

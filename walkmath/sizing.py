@@ -74,6 +74,7 @@ def smallest_capacity(
     stockout_target: float | None = None,
     *,
     cap: int = WORK_CAP,
+    own_overflow: np.ndarray | None = None,
 ) -> int | None:
     """Smallest capacity (at least the start) whose overflow risk at ``horizon`` meets ``overflow_target``.
 
@@ -89,13 +90,14 @@ def smallest_capacity(
     confirms it and its neighbour with exact probes, and gallops away from it
     only when it is off. The whole search stays under ``cap`` units of work
     (``ComputeTooLarge`` names the capacity reached when the next probe would
-    pass it).
+    pass it). ``own_overflow``: ``walk.risk_by_start(horizon).overflow`` if the caller
+    has it already (the guess then reads it instead of sweeping again).
     """
     horizon = checks.horizon(horizon)
     overflow_target = checks.probability("overflow_target", overflow_target)
     if stockout_target is not None:
         stockout_target = checks.probability("stockout_target", stockout_target)
-    search = capacity_search(walk, horizon, overflow_target, stockout_target, cap=cap)
+    search = capacity_search(walk, horizon, overflow_target, stockout_target, cap=cap, own_overflow=own_overflow)
     request = next(search)
     while True:
         capacity, stockout, overflow = request

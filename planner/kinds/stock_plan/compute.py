@@ -213,7 +213,7 @@ class StockJob(Job):
         capacity_answer = both_answer = None
         if params.high is not None:
             if "smallest_capacity" in allowed:
-                capacity_answer = self._capacity_answer(allowed["smallest_capacity"])
+                capacity_answer = self._capacity_answer(allowed["smallest_capacity"], start_risk)
                 self.part_done("smallest_capacity")
             if capacity_answer is None:
                 left_out.append("the smallest capacity for the overflow target (too large a search for one request)")
@@ -271,7 +271,7 @@ class StockJob(Job):
             advice = (
                 f"No start stock from {low} to {top} units meets the stock-out target over "
                 f"{periods(self.params.horizon, self.params.period)}. "
-                + (self._capacity_needed(budget) if budget else "")
+                + (self._capacity_needed(budget, risk) if budget else "")
                 + ("Raise the capacity, " if self.params.high is not None else "")
                 + "schedule larger or more frequent deliveries, or shorten the horizon."
             )
@@ -283,11 +283,13 @@ class StockJob(Job):
             advice=advice,
         )
 
-    def _capacity_needed(self, budget: int) -> str:
+    def _capacity_needed(self, budget: int, start_risk: wm.StartRisk) -> str:
         """'With the start stock at 45 units, a capacity of 120 units would meet it. ' (or why none would)."""
         try:
             # Overflow target 1 (always met): the smallest capacity whose spill-over keeps enough stock.
-            capacity = self.walk.smallest_capacity(self.params.horizon, 1.0, self.stockout_target, cap=budget)
+            capacity = self.walk.smallest_capacity(
+                self.params.horizon, 1.0, self.stockout_target, cap=budget, own_overflow=start_risk.overflow
+            )
         except wm.ComputeTooLarge:
             return ""
         start = units(self.params.start)
@@ -295,10 +297,15 @@ class StockJob(Job):
             return f"With the start stock at {start}, no larger capacity would meet it either. "
         return f"With the start stock at {start}, a capacity of {units(capacity)} would meet it. "
 
-    def _capacity_answer(self, budget: int) -> SizingAnswer | None:
-        """Smallest capacity meeting the overflow target alone; None when the search does not settle in ``budget``."""
+    def _capacity_answer(self, budget: int, start_risk: wm.StartRisk) -> SizingAnswer | None:
+        """Smallest capacity meeting the overflow target alone; None when the search does not settle in ``budget``.
+
+        The search's first guess reads the overflow risk by start the page has already worked out.
+        """
         try:
-            value = self.walk.smallest_capacity(self.params.horizon, self.overflow_target, cap=budget)
+            value = self.walk.smallest_capacity(
+                self.params.horizon, self.overflow_target, cap=budget, own_overflow=start_risk.overflow
+            )
         except wm.ComputeTooLarge:
             return None
         if value is not None:
