@@ -75,13 +75,19 @@ def probabilities(values, digits: int = 3) -> list[str]:
             out.append(percent_text.format(100 * value))
         else:
             mantissa, exponent = mantissa_text.format(value).split("e")
-            out.append(f"{float(mantissa):g} × 10{_power(int(exponent))}")
+            out.append(f"{_short(mantissa)} × 10{_power(exponent)}")
     return out
 
 
+def _short(mantissa: str) -> str:
+    """'6.60' -> '6.6', '1.00' -> '1': what ``f"{float(mantissa):g}"`` writes for a mantissa in [1, 10)."""
+    return mantissa.rstrip("0").rstrip(".") if "." in mantissa else mantissa
+
+
 @functools.lru_cache(maxsize=1024)
-def _power(exponent: int) -> str:
-    return str(exponent).translate(SUPERSCRIPT)
+def _power(exponent: str) -> str:
+    """'-12' (as ``format`` writes it, '-05' included) -> '⁻¹²'."""
+    return str(int(exponent)).translate(SUPERSCRIPT)
 
 
 def number(value, digits: int = 3) -> str:
