@@ -106,11 +106,20 @@ class RateTableJob(PoolJob):
         super().__init__(params, risk_target, params.pool(), start=params.start_failed)
         self.pool = self.rates
         self.size_words = f"{params.top + 1:,} rows"
+        self._by_speed: dict[float, tuple[wm.RatePool, int]] = {}  # speed -> (pool, price): priced, then run
+
+    def _speed_pool(self, speed: float) -> tuple[wm.RatePool, int]:
+        """One repair speed's pool and the price of its figures (its long-run figures and its mission risk),
+        built once a request: ``parts`` prices them and ``run`` works out those that fit."""
+        if speed not in self._by_speed:
+            pool = self.params.pool(repair_speed=speed)
+            price = pool.cost("long_run").units + pool.cost("shortage_curve", times=self.params.mission).units
+            self._by_speed[speed] = pool, price
+        return self._by_speed[speed]
 
     def _speed_price(self, speed: float) -> int:
         """Price of one repair speed's figures: its long-run figures and its mission risk."""
-        pool = self.params.pool(repair_speed=speed)
-        return pool.cost("long_run").units + pool.cost("shortage_curve", times=self.params.mission).units
+        return self._speed_pool(speed)[1]
 
     def parts(self) -> list[Part]:
         """Every engine call the page makes, priced by ``RatePool.cost`` (``PoolJob.shared_parts``),
@@ -138,11 +147,10 @@ class RateTableJob(PoolJob):
         """Figures at each repair speed, slowest first, each priced before it runs, while ``budget`` lasts."""
         rows = []
         for speed in REPAIR_SPEEDS:
-            price = self._speed_price(speed)
+            pool, price = self._speed_pool(speed)
             if price > budget:
                 break
             budget -= price
-            pool = self.params.pool(repair_speed=speed)
             shortage, no_shortage = pool.shortage_split(self.params.mission, failed=self.params.start_failed)
             rows.append((speed, *pool.availability_split(), shortage, no_shortage))
         if not rows:

@@ -131,15 +131,23 @@ class SparesJob(PoolJob):
         self.pool = params.pool()
         super().__init__(params, risk_target, self.pool.rates)
         self.size_words = f"{params.units + params.spares:,} units and spares"
+        self._candidates: dict[tuple, wm.SparesPool] = {}  # (spares, crews) -> pool, for the prices
+
+    def _candidate(self, spares: int | None, crews: int | None) -> wm.SparesPool:
+        """A sizing candidate's pool, built once a request (several prices read the same candidate)."""
+        key = (spares, crews)
+        if key not in self._candidates:
+            self._candidates[key] = self.params.pool(spares=spares, crews=crews)
+        return self._candidates[key]
 
     def _probe(self, spares: int | None = None, crews: int | None = None) -> int:
         """Price of one sizing candidate: its long-run figures and its mission risk."""
-        pool = self.params.pool(spares=spares, crews=crews)
+        pool = self._candidate(spares, crews)
         return pool.cost("long_run").units + pool.cost("shortage_curve", times=self.params.mission).units
 
     def _long_run(self, spares: int | None = None, crews: int | None = None) -> int:
         """Price of one candidate's long-run figures (no mission)."""
-        return self.params.pool(spares=spares, crews=crews).cost("long_run").units
+        return self._candidate(spares, crews).cost("long_run").units
 
     @property
     def most_crews(self) -> int:
