@@ -233,6 +233,9 @@ AXES_LOCKOUT_TEMPLATE = "registration/locked_out.html"
 AXES_CLIENT_IP_CALLABLE = "planner.security.client_address"
 AXES_DISABLE_ACCESS_LOG = True  # successful sign-ins are not logged; failures are (admin, "Access attempts")
 
+# Database sessions as Django keeps them, read with a statement compiled once (planner/sessions.py).
+SESSION_ENGINE = "planner.sessions"
+
 LOGIN_URL = "login"
 LOGIN_REDIRECT_URL = "/"
 LOGOUT_REDIRECT_URL = "login"
