@@ -10,6 +10,7 @@ download always matches what is on screen.
 from __future__ import annotations
 
 import contextlib
+import functools
 import math
 from dataclasses import dataclass, field
 
@@ -52,8 +53,15 @@ class StockResult:
     both_answer: SizingAnswer | None  # smallest start meeting both targets at this capacity
     mean_periods_to_stockout: float | None  # None when left out of this request
     normal_final: wm.LevelDistribution | None  # None when left out (a very wide free-walk law)
-    normal_stockout: np.ndarray
     left_out: tuple[str, ...] = field(default=())  # notes on optional figures this request could not afford
+
+    @functools.cached_property
+    def normal_stockout(self) -> np.ndarray:
+        """The normal approximation's stock-out curve over the horizon, worked out on first use: only the
+        risk-curves CSV shows it, so pages and what-ifs (which show no CSV) do not pay for it."""
+        params = self.params
+        curve = wm.normal_stockout_curve(list(self.laws), start=params.start, low=params.low, horizon=params.horizon)
+        return np.asarray(curve)
 
     @property
     def horizon(self) -> int:
@@ -244,9 +252,6 @@ class StockJob(Job):
             both_answer=both_answer,
             mean_periods_to_stockout=mean_time,
             normal_final=normal_final,
-            normal_stockout=np.asarray(
-                wm.normal_stockout_curve(list(self.laws), start=params.start, low=params.low, horizon=horizon)
-            ),
             left_out=tuple(left_out),
         )
 
