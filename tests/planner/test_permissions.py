@@ -54,6 +54,24 @@ def test_a_missing_plan_is_404_for_everyone(scenario, cast):
             get_scenario_for(user_of(cast, who), scenario.pk + 1000)
 
 
+@pytest.mark.parametrize("pk", [2**63 - 1, 2**63, 10**30])
+def test_a_key_past_the_databases_integers_is_a_missing_plan(scenario, cast, client, pk):
+    # The address takes any digits; the ORM's own lookup finds no such row (Django 5's integer lookups).
+    with pytest.raises(Http404):
+        get_scenario_for(cast["owner"], pk)
+    client.force_login(cast["owner"])
+    assert client.get(f"/scenarios/{pk}/outlook.json").status_code == 404
+
+
+def test_the_plan_read_by_key_holds_every_saved_field(scenario, cast):
+    found = get_scenario_for(cast["owner"], scenario.pk)
+    saved = type(scenario).objects.get(pk=scenario.pk)  # the ORM's own lookup (reference)
+    assert {f.attname: getattr(found, f.attname) for f in saved._meta.concrete_fields} == {
+        f.attname: getattr(saved, f.attname) for f in saved._meta.concrete_fields
+    }
+    assert found.owner == cast["owner"] and found.access.role == OWN
+
+
 def test_the_highest_role_wins(scenario, cast):
     viewer = cast["viewer"]
     viewer.groups.add(Group.objects.get(name="Ovens"))  # a viewer in a group of editors
