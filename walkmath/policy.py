@@ -387,7 +387,9 @@ def _chain_steady_state(chain: ReviewChain) -> np.ndarray:
     members = closed_class(full)
     gth_work(members.size).check()
     weights = np.zeros(len(chain.states))
-    weights[members] = gth_steady_state(full[members][:, members].toarray())
+    # The whole chain is one class in the usual case: its dense matrix directly (the same entries).
+    inside = full if members.size == full.shape[0] else full[members][:, members]
+    weights[members] = gth_steady_state(inside.toarray())
     return weights
 
 

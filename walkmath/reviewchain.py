@@ -19,7 +19,6 @@ is one matrix product per block.
 from __future__ import annotations
 
 import math
-from collections import deque
 
 import numpy as np
 from scipy import sparse
@@ -98,22 +97,13 @@ class ReviewChain:
         steps = list(zip(support.tolist(), demand_probs[support].tolist(), strict=True))
         above = np.append(np.cumsum(demand_probs[::-1])[::-1][1:], 0.0).tolist()  # P(D > k), tail sums
         index = {start: 0}
-        states = [start]
+        states = [start]  # in the order found: breadth first, so state i is the i-th taken up
         moves: list[tuple[int, int, float]] = []
         short: list[tuple[int, int, float]] = []
         ended, kept, ordering = [], [], []
-
-        def visit(nxt) -> int:
-            if nxt not in index:
-                index[nxt] = len(states)
-                states.append(nxt)
-                queue.append(nxt)
-            return index[nxt]
-
-        queue = deque([start])
-        while queue:
-            state = queue.popleft()
-            here = index[state]
+        here = 0
+        while here < len(states):
+            state = states[here]
             on_hand, due = state[0], state[1:]
             position = on_hand + sum(due)
             order = order_up_to - position if position <= reorder_level else 0
@@ -122,12 +112,25 @@ class ReviewChain:
             ended.append(ends)
             kept.append(available)
             ordering.append(order > 0)
+            # The state at the next review is (left + shift, *rest) for what is left (``_next``).
+            shift, rest = self._arrival(due, order)
             for units, p in steps:
                 if units > available:
                     break
-                moves.append((here, visit(self._next(available - units, due, order)), p))
+                nxt = (available - units + shift, *rest)
+                found = index.get(nxt)
+                if found is None:
+                    found = index[nxt] = len(states)
+                    states.append(nxt)
+                moves.append((here, found, p))
             if shortage_moves and ends > 0:  # lost sales: the stock-out leaves nothing on hand
-                short.append((here, visit(self._next(0, due, order)), ends))
+                nxt = (shift, *rest)
+                found = index.get(nxt)
+                if found is None:
+                    found = index[nxt] = len(states)
+                    states.append(nxt)
+                short.append((here, found, ends))
+            here += 1
         size = len(states)
         self.states = states
         self.transitions = _matrix(moves, size)
@@ -138,11 +141,16 @@ class ReviewChain:
 
     def _next(self, left: int, due: tuple[int, ...], order: int) -> tuple[int, ...]:
         """The state at the next review: what is left, plus the order arriving then."""
+        shift, rest = self._arrival(due, order)
+        return (left + shift, *rest)
+
+    def _arrival(self, due: tuple[int, ...], order: int) -> tuple[int, tuple[int, ...]]:
+        """What the next review adds to the stock left (the order due then) and the orders still due after it."""
         if self.lead_time == 0:
-            return (left,)
+            return 0, ()
         if self.lead_time == 1:
-            return (left + order,)
-        return (left + due[0], *due[1:], order)
+            return order, ()
+        return due[0], (*due[1:], order)
 
     def stockout_curve(self, horizon: int) -> tuple[np.ndarray, np.ndarray]:
         """P(a stock-out in periods 1..n) and P(none), n = 0..horizon, each summed from its own side.
