@@ -192,6 +192,17 @@ def _powers(chain: BirthDeath, initial: np.ndarray, steps: int, ladder: np.ndarr
 
 
 def _ladder(chain: BirthDeath) -> np.ndarray:
+    """The chain's step ladder (``_build_ladder``), built once per chain object and kept on it (read-only):
+    a pool's figures sweep the same chain several times (mission curves, risk by units failed at the start)."""
+    ladder = chain.__dict__.get("_step_ladder")
+    if ladder is None:
+        ladder = _build_ladder(chain)
+        ladder.setflags(write=False)
+        object.__setattr__(chain, "_step_ladder", ladder)  # the chain is frozen; its rates never change
+    return ladder
+
+
+def _build_ladder(chain: BirthDeath) -> np.ndarray:
     """The step ladder of a small chain: ladder[i, r * n + j] = P^r[i, j] for r < STEP_BLOCK.
 
     Built by doubling, P^(k + r) = P^r P^k (eight batched products for 256 powers); every entry is
