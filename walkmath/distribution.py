@@ -68,17 +68,18 @@ class LevelDistribution:
 
     @property
     def mean(self) -> float:
-        return math.fsum(self.levels * self.probs)
+        # fsum of a list: the same correctly rounded sum as of the array, without numpy's per-item scalars
+        return math.fsum((self.levels * self.probs).tolist())
 
     def cdf(self, level: int) -> float:
         """P(level <= ``level``) as a sum of non-negative terms."""
         index = checks.whole("level", level) - int(self.levels[0])
-        return math.fsum(self.probs[: max(index + 1, 0)]) if index >= 0 else 0.0
+        return math.fsum(self.probs[: max(index + 1, 0)].tolist()) if index >= 0 else 0.0
 
     def sf(self, level: int) -> float:
         """P(level > ``level``) as a sum of non-negative terms (never 1 - cdf)."""
         index = checks.whole("level", level) - int(self.levels[0])
-        return math.fsum(self.probs[max(index + 1, 0) :])
+        return math.fsum(self.probs[max(index + 1, 0) :].tolist())
 
     def tails(self) -> tuple[np.ndarray, np.ndarray]:
         """P(level <= levels[i]) and P(level > levels[i]) for every level, each a cumulative sum of

@@ -209,7 +209,8 @@ class DemandTables:
         at_least = np.cumsum(probs[::-1])[::-1]
         self.above = np.minimum(np.append(at_least[1:], 0.0), 1.0)
         self.below = np.minimum(np.cumsum(probs), 1.0)
-        self.mean = math.fsum(probs * np.arange(probs.size))
+        # fsum of a list: the same correctly rounded sum as of the array, without numpy's per-item scalars
+        self.mean = math.fsum((probs * np.arange(probs.size)).tolist())
         self.short = np.cumsum(self.above[::-1])[::-1]  # E[(D - n)+] = sum_{k >= n} P(D > k)
         self.served = np.concatenate([[0.0], np.cumsum(self.above)[:-1]])  # E[min(D, n)] = sum_{k < n} P(D > k)
 
@@ -347,7 +348,7 @@ def orders_per_review(position: np.ndarray, tables: DemandTables) -> float:
     gap = position.size
     need = gap - 1 - np.arange(gap)  # P(D > gap - j - 1)
     above = np.where(need < tables.above.size, tables.above[np.minimum(need, tables.above.size - 1)], 0.0)
-    return min(math.fsum(position * above), 1.0)
+    return min(math.fsum((position * above).tolist()), 1.0)
 
 
 def count_probs(demand: StepLaw) -> np.ndarray:

@@ -258,12 +258,13 @@ class StepLaw:
 
     @property
     def mean(self) -> float:
-        return math.fsum(self.steps * self.probs)
+        # fsum of a list: the same correctly rounded sum as of the array, without numpy's per-item scalars
+        return math.fsum((self.steps * self.probs).tolist())
 
     @property
     def variance(self) -> float:
         centred = self.steps - self.mean
-        return math.fsum(centred * centred * self.probs)
+        return math.fsum((centred * centred * self.probs).tolist())
 
     @property
     def is_nearest(self) -> bool:
