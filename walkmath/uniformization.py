@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import functools
 import math
+import weakref
 from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
@@ -191,14 +192,19 @@ def _powers(chain: BirthDeath, initial: np.ndarray, steps: int, ladder: np.ndarr
         _step(block[rows - 1], current, stay, up_from, down_from, scratch)
 
 
+# Step ladders by chain object, while the chain lives (a chain is frozen: its rates never change). Kept
+# beside the chain rather than on it, so a pickled result holding a pool does not carry its ladders.
+_LADDERS: weakref.WeakKeyDictionary = weakref.WeakKeyDictionary()
+
+
 def _ladder(chain: BirthDeath) -> np.ndarray:
-    """The chain's step ladder (``_build_ladder``), built once per chain object and kept on it (read-only):
-    a pool's figures sweep the same chain several times (mission curves, risk by units failed at the start)."""
-    ladder = chain.__dict__.get("_step_ladder")
+    """The chain's step ladder (``_build_ladder``), built once per chain object (read-only): a pool's
+    figures sweep the same chain several times (mission curves, risk by units failed at the start)."""
+    ladder = _LADDERS.get(chain)
     if ladder is None:
         ladder = _build_ladder(chain)
         ladder.setflags(write=False)
-        object.__setattr__(chain, "_step_ladder", ladder)  # the chain is frozen; its rates never change
+        _LADDERS[chain] = ladder
     return ladder
 
 
