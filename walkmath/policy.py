@@ -237,7 +237,7 @@ def finish_curves(
     bodies: dict[str, np.ndarray],
     on_hand: np.ndarray,
     drop: np.ndarray,
-    end_drop: np.ndarray,
+    end_drop: np.ndarray | None,
     tables: DemandTables,
     order_up_to: np.ndarray,
     unmet: str,
@@ -246,14 +246,13 @@ def finish_curves(
 
     Adds f(0) P(W > S) to each body (W > S leaves no stock), backorders E[(V - S)+]
     as the loss sum of V's tail; curves over S are made monotone as the quantities
-    are (each S is summed on its own; neighbours may differ by an ulp).
+    are (each S is summed on its own; neighbours may differ by an ulp). Without ``end_drop``
+    (a caller that reads no backorders) there is no ``mean_backorders`` curve.
     """
     beyond = np.append(np.cumsum(drop[::-1])[::-1], 0.0)  # P(W >= w)
     over = beyond[np.minimum(order_up_to + 1, beyond.size - 1)]
     named = tables.named()
     expect = {name: bodies[name] + table[0] * over for name, table in named.items()}
-    end_tail = np.append(np.cumsum(end_drop[::-1])[::-1][1:], 0.0)  # P(V > v)
-    end_loss = np.append(np.cumsum(end_tail[::-1])[::-1], 0.0)  # E[(V - v)+] = sum_{k >= v} P(V > k)
     mean = tables.mean
     curves = {
         "stockout_probability": np.minimum(expect["above"], 1.0),
@@ -261,14 +260,18 @@ def finish_curves(
         "fill_rate": np.minimum(expect["served"] / mean, 1.0),
         "unfilled_share": np.minimum(expect["short"] / mean, 1.0),
         "mean_on_hand": on_hand,
-        "mean_backorders": end_loss[np.minimum(order_up_to, end_loss.size - 1)]
-        if unmet == "backorder"
-        else 0 * on_hand,
-        "mean_short": expect["short"],
     }
+    if end_drop is not None:
+        end_tail = np.append(np.cumsum(end_drop[::-1])[::-1][1:], 0.0)  # P(V > v)
+        end_loss = np.append(np.cumsum(end_tail[::-1])[::-1], 0.0)  # E[(V - v)+] = sum_{k >= v} P(V > k)
+        curves["mean_backorders"] = (
+            end_loss[np.minimum(order_up_to, end_loss.size - 1)] if unmet == "backorder" else 0 * on_hand
+        )
+    curves["mean_short"] = expect["short"]
     if order_up_to.size > 1 and np.all(np.diff(order_up_to) > 0):
         for name in ("stockout_probability", "unfilled_share", "mean_backorders", "mean_short"):
-            curves[name] = np.minimum.accumulate(curves[name])
+            if name in curves:
+                curves[name] = np.minimum.accumulate(curves[name])
         for name in ("in_stock_probability", "fill_rate", "mean_on_hand"):
             curves[name] = np.maximum.accumulate(curves[name])
     return curves

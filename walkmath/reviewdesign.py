@@ -203,8 +203,11 @@ class _Shared:
     def curves(self, drop: np.ndarray, levels: np.ndarray) -> dict[str, np.ndarray]:
         return measure_curves(drop, end_drop_law(drop, self.demand), self.tables, levels, self.unmet)
 
-    def gap_curves(self, gaps):
+    def gap_curves(self, gaps, *, backorders: bool = True):
         """Yield (gap, measures at S = gap..top, orders per period) for increasing gaps, sharing the work.
+
+        ``backorders=False``: no ``mean_backorders`` curve, and no end-of-period law convolved for it
+        (the cheapest-policy search reads on hand, units short and service only).
 
         The drop law is a mixture, W = sum_j position(j) x (lead-time demand shifted by j), so each
         expectation sum_{w <= S} P(W = w) f(S - w) is sum_{j < gap} u(j) B_f(S - j) / U(gap) with
@@ -229,7 +232,7 @@ class _Shared:
             at = levels[gap:]
             bodies = {name: values[at] / total for name, values in sums.items()}
             on_hand = bodies.pop("on_hand")
-            end_drop = end_drop_law(drop, self.demand)
+            end_drop = end_drop_law(drop, self.demand) if backorders else None
             curves = finish_curves(bodies, on_hand, drop, end_drop, self.tables, at, self.unmet)
             yield gap, curves, np.full(at.size, ordered)
 
@@ -539,7 +542,10 @@ def best_policy(
     grid = {name: np.zeros(shape) for name in ("cost", "service", "shortfall")}
     valid = np.zeros(shape, dtype=bool)
     gaps = range(1, largest_gap + 1)
-    pieces = shared.gap_curves(gaps) if shared.shared else shared.chain_gaps(gaps, top)
+    if shared.shared:
+        pieces = shared.gap_curves(gaps, backorders=False)  # the grid reads no backorders
+    else:
+        pieces = shared.chain_gaps(gaps, top)
     for gap, curves, orders in pieces:
         column = largest_gap - gap
         grid["cost"][gap:, column] = (
