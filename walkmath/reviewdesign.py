@@ -542,10 +542,8 @@ def best_policy(
     grid = {name: np.zeros(shape) for name in ("cost", "service", "shortfall")}
     valid = np.zeros(shape, dtype=bool)
     gaps = range(1, largest_gap + 1)
-    if shared.shared:
-        pieces = shared.gap_curves(gaps, backorders=False)  # the grid reads no backorders
-    else:
-        pieces = shared.chain_gaps(gaps, top)
+    # The grid reads no backorders: the shared form skips their curve.
+    pieces = shared.gap_curves(gaps, backorders=False) if shared.shared else shared.chain_gaps(gaps, top)
     for gap, curves, orders in pieces:
         column = largest_gap - gap
         grid["cost"][gap:, column] = (
