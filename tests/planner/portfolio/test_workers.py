@@ -7,6 +7,7 @@ Other processes must see the test database, so this runs when the suite runs on 
 lives in this process's memory.
 """
 
+import io
 import os
 import signal
 import subprocess
@@ -19,8 +20,9 @@ from django.db import connection
 from django_tasks_db.models import DBTaskResult
 
 from planner.portfolio import services, tasks
+from planner.portfolio.items_file import read_items
 from planner.portfolio.models import PortfolioResult, RunStatus
-from tests.planner.portfolio.helpers import engine_figures, parsed, stored_figures
+from tests.planner.portfolio.helpers import engine_figures, portfolio_csv, stored_figures
 
 pytestmark = pytest.mark.django_db(transaction=True)
 ROOT = Path(__file__).resolve().parents[3]
@@ -35,8 +37,17 @@ def _settings(settings):
             "processes cannot see SQLite's in-memory test database"
         )
     settings.TASKS = {"default": {"BACKEND": "django_tasks_db.DatabaseBackend"}}
-    settings.PORTFOLIO_CHUNK_ITEMS = 4
+    settings.PORTFOLIO_CHUNK_ITEMS = 8
     settings.PORTFOLIO_LEASE_SECONDS = LEASE
+
+
+def silos_csv(count: int) -> bytes:
+    """The small shelf of ``portfolio_csv`` (6 reorder items, 2 spares) with ``count`` large silos instead of bins."""
+    lines = portfolio_csv(stock=0, reorder=6, spares=2, bad=0).decode().splitlines()
+    for n in range(count):
+        mean = round(20 + 0.37 * n, 2)
+        lines.append(f"SILO-{n},stock,day,{mean},{mean + 0.6},500,{1000 + 20 * n},120,1,2,,,,,,,")
+    return ("\n".join(lines) + "\n").encode()
 
 
 def _worker(name: str) -> subprocess.Popen:
@@ -68,12 +79,18 @@ def _running_chunk_task_of(worker: str):
 
 
 def test_two_workers_one_killed_mid_chunk_every_row_once_and_equal_to_the_engine(owner):
-    # 40 stock bins of 60 periods with capacity searches (about 0.05-0.2 s each), a few reorder items and spares.
-    run = services.run_create(owner=owner, title="Shelf", parsed=parsed(stock=40, reorder=6, spares=2, horizon=60))
+    # 24 flour silos of 1,000 to 1,460 kg over 120 days, each with its own use, with capacity searches (about
+    # 0.03 s each, so a chunk of eight takes long enough to be killed in the middle), a few reorder items and spares.
+    run = services.run_create(owner=owner, title="Shelf", parsed=read_items(io.BytesIO(silos_csv(24))))
     run = services.run_start(run=run)
     workers = {"alder": _worker("alder"), "birch": _worker("birch")}
     try:
-        killed_task = _wait_for(lambda: _running_chunk_task_of("alder"), 60, "worker alder to claim a chunk")
+        killed_task = _wait_for(lambda: _running_chunk_task_of("alder"), 60, "worker alder to take a chunk's task")
+        chunk_id = killed_task.args_kwargs["args"][0]
+        # Killed in the middle of the chunk: once its task has claimed it (the task taken but the chunk not yet
+        # claimed is the other case, tests/planner/portfolio/test_runs.py).
+        claimed = run.chunks.filter(pk=chunk_id, status="running")
+        _wait_for(claimed.exists, 60, "worker alder to claim the chunk")
         workers["alder"].send_signal(signal.SIGKILL)
         workers["alder"].wait(10)
         killed_task.refresh_from_db()
@@ -92,10 +109,10 @@ def test_two_workers_one_killed_mid_chunk_every_row_once_and_equal_to_the_engine
                 process.terminate()
                 process.wait(10)
     assert run.status == RunStatus.FINISHED
-    chunk = run.chunks.get(pk=killed_task.args_kwargs["args"][0])
+    chunk = run.chunks.get(pk=chunk_id)
     assert chunk.attempts >= 2 and chunk.status == "done"  # worked out again after its worker died
     results = PortfolioResult.objects.filter(run=run).select_related("item")
-    assert results.count() == run.queued == 48  # none lost, none twice (the item is the result's primary key)
-    assert sorted(results.values_list("item__row", flat=True)) == list(range(2, 50))
+    assert results.count() == run.queued == 32  # none lost, none twice (the item is the result's primary key)
+    assert sorted(results.values_list("item__row", flat=True)) == list(range(2, 34))
     for result in results:
         assert result.answered and stored_figures(result) == engine_figures(result.item.spec), result.item.code
