@@ -147,20 +147,19 @@ def _read(scenario, changes: Mapping | None, job_maker, share: int, *, may_wait:
 
 
 def _background_or(refusal: ComputeTooLarge, job) -> ComputeTooLarge:
-    """TooLargeForRequest when a background worker may work the plan out; else the refusal, saying that
-    a worker would refuse it too."""
+    """TooLargeForRequest when a background worker may work the plan out (its required parts within
+    PLANNER_BACKGROUND_CAP); else the refusal, saying that a worker would refuse it too. Prices only."""
     cap = settings.PLANNER_BACKGROUND_CAP
     try:
-        allowed = _allowed(job, cap)
-    except ComputeTooLarge as too_large:
         required = sum(part.units for part in job.parts() if part.required)
-        if required <= cap:  # refused for another reason (memory): the worker's own words
-            return too_large
+    except ComputeTooLarge as too_large:  # refused by the job itself (memory): a worker would refuse it too
+        return too_large
+    if required > cap:
         times = f"about {required / cap:.1f} times" if required < 1000 * cap else "over a thousand times"
         return ComputeTooLarge(f"{refusal} It is also beyond what a background worker takes ({times} its limit).")
     return TooLargeForRequest(
         f"{refusal} Saved as it is, the plan is worked out in the background instead: open its results page.",
-        sum(allowed.values()),
+        required,
     )
 
 
