@@ -116,6 +116,36 @@ def pipeline_count(order_up_to: int, gap: int, lead_time: int) -> int:
     return count
 
 
+def lost_sales_moves(probs: np.ndarray, on_hand: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Every state's moves in one period with sales lost: (state row, stock left, probability) for each.
+
+    Every demand up to the stock on hand is served (what is left: on hand - demand); demand above it is a
+    lost sale, leaving 0. The two moves to 0 are summed where the matrix is filled.
+    """
+    above = np.append(np.cumsum(probs[::-1])[::-1][1:], 0.0)  # P(D > k), tail sums
+    support = np.flatnonzero(probs > 0)
+    rows, picks = np.nonzero(support[None, :] <= on_hand[:, None])
+    demand = support[picks]
+    unserved = above[np.minimum(on_hand, above.size - 1)]  # P(D > on hand); the last entry is 0
+    short = np.flatnonzero(unserved > 0)
+    left = np.concatenate([on_hand[rows] - demand, np.zeros(short.size, dtype=np.int64)])
+    weights = np.concatenate([probs[demand], unserved[short]])
+    return np.concatenate([rows, short]), left, weights
+
+
+def next_states(states: np.ndarray, rows: np.ndarray, left: np.ndarray, order: np.ndarray, lead_time: int):
+    """The states after each move: the order due now arrives on what was left, the others move up one
+    period, and this review's ``order`` (per state) joins the end of the pipeline."""
+    nxt = np.empty((rows.size, states.shape[1]), dtype=np.int64)
+    if lead_time == 1:
+        nxt[:, 0] = left + order[rows]
+    else:
+        nxt[:, 0] = left + states[rows, 1]
+        nxt[:, 1:-1] = states[rows, 2:]
+        nxt[:, -1] = order[rows]
+    return nxt
+
+
 class _Family:
     """The closed classes of many policies' chains, found in one pass over all their states.
 
@@ -141,25 +171,9 @@ class _Family:
         on_hand = states[:, 0]
         position = states.sum(axis=1)
         order = np.where(position <= reorder, order_up_to - position, 0)
-        above = np.append(np.cumsum(probs[::-1])[::-1][1:], 0.0)  # P(D > k), tail sums
-        # Moves: every demand up to the shelf (what is left: on hand - demand), and the lost sale (demand
-        # above the shelf, leaving 0); the two moves to 0 are summed where the matrix is filled.
-        support = np.flatnonzero(probs > 0)
-        rows, picks = np.nonzero(support[None, :] <= on_hand[:, None])
-        demand = support[picks]
-        unserved = above[np.minimum(on_hand, above.size - 1)]  # P(D > on hand); the last entry is 0
-        short = np.flatnonzero(unserved > 0)
-        left = np.concatenate([on_hand[rows] - demand, np.zeros(short.size, dtype=np.int64)])
-        weights = np.concatenate([probs[demand], unserved[short]])
-        rows = np.concatenate([rows, short])
+        rows, left, weights = lost_sales_moves(probs, on_hand)
+        nxt = next_states(states, rows, left, order, lead_time)
         width = states.shape[1]
-        nxt = np.empty((rows.size, width), dtype=np.int64)
-        if lead_time == 1:
-            nxt[:, 0] = left + order[rows]
-        else:
-            nxt[:, 0] = left + states[rows, 1]
-            nxt[:, 1:-1] = states[rows, 2:]
-            nxt[:, -1] = order[rows]
         firsts = np.cumsum(sizes) - sizes
         start_rows = np.zeros((count, width), dtype=np.int64)
         start_rows[:, 0] = order_up_to[firsts]  # S on hand, nothing due

@@ -45,6 +45,8 @@ from walkmath.reviewstack import (
     MOVE_UNITS,
     _measures,
     lost_sales_measures,
+    lost_sales_moves,
+    next_states,
     pipeline_count,
     pipeline_states,
     row_keys,
@@ -69,29 +71,13 @@ class LevelSweep:
         position = states.sum(axis=1)
         turn = np.lexsort((*states.T[::-1], -position))  # position highest first, then lexicographic
         states, position = states[turn], position[turn]
-        size, width = states.shape
+        size = states.shape[0]
         self.on_hand, self.position = states[:, 0], position
         # starts[p]: first index of position p (positions run down, so levels at or below p are the tail).
         self.starts = np.searchsorted(-position, -np.arange(order_up_to + 1))
-        above = np.append(np.cumsum(probs[::-1])[::-1][1:], 0.0)  # P(D > k), tail sums
-        support = np.flatnonzero(probs > 0)
-        rows, picks = np.nonzero(support[None, :] <= self.on_hand[:, None])
-        demand_units = support[picks]
-        unserved = above[np.minimum(self.on_hand, above.size - 1)]  # P(D > on hand); the last entry is 0
-        short = np.flatnonzero(unserved > 0)
-        left = np.concatenate([self.on_hand[rows] - demand_units, np.zeros(short.size, dtype=np.int64)])
-        weights = np.concatenate([probs[demand_units], unserved[short]])
-        rows = np.concatenate([rows, short])
-        nexts = []
-        for order in (np.zeros(size, dtype=np.int64), order_up_to - position):  # waiting, ordering
-            nxt = np.empty((rows.size, width), dtype=np.int64)
-            if lead_time == 1:
-                nxt[:, 0] = left + order[rows]
-            else:
-                nxt[:, 0] = left + states[rows, 1]
-                nxt[:, 1:-1] = states[rows, 2:]
-                nxt[:, -1] = order[rows]
-            nexts.append(nxt)
+        rows, left, weights = lost_sales_moves(probs, self.on_hand)
+        waiting, ordering = np.zeros(size, dtype=np.int64), order_up_to - position
+        nexts = [next_states(states, rows, left, order, lead_time) for order in (waiting, ordering)]
         keys, *next_keys = row_keys(states, *nexts)
         order_keys = np.argsort(keys)
         work = np.zeros((2, size, size))  # [0]: waiting rows, [1]: ordering rows
