@@ -47,10 +47,6 @@ class TooLargeForRequest(ComputeTooLarge):
     Its message is the one any page that cannot wait shows (a what-if, a comparison, the cross-check).
     """
 
-    def __init__(self, message: str, units: int):
-        super().__init__(message)
-        self.units = units
-
 
 def saved_params(scenario) -> Any:
     return get_kind(scenario.kind).params_from_json(scenario.parameters)
@@ -158,8 +154,7 @@ def _background_or(refusal: ComputeTooLarge, job) -> ComputeTooLarge:
         times = f"about {required / cap:.1f} times" if required < 1000 * cap else "over a thousand times"
         return ComputeTooLarge(f"{refusal} It is also beyond what a background worker takes ({times} its limit).")
     return TooLargeForRequest(
-        f"{refusal} Saved as it is, the plan is worked out in the background instead: open its results page.",
-        required,
+        f"{refusal} Saved as it is, the plan is worked out in the background instead: open its results page."
     )
 
 

@@ -10,25 +10,20 @@ portfolio workers' test does (``tests/planner/portfolio/test_workers.py``, whose
 import signal
 
 import pytest
-from django.db import connection
 
 from planner import services
 from planner.background import tasks
 from planner.background.models import BackgroundReading, WorkStatus
 from planner.count_law import CountLaw
 from planner.kinds.stock_plan.params import StockPlanParams
-from tests.planner.portfolio.test_workers import LEASE, _wait_for, _worker
+from tests.planner.portfolio.test_workers import LEASE, _wait_for, _worker, skip_unless_postgresql
 
 pytestmark = pytest.mark.django_db(transaction=True)
 
 
 @pytest.fixture(autouse=True)
 def _settings(settings):
-    if connection.vendor != "postgresql":
-        pytest.skip(
-            "needs the suite on PostgreSQL (DATABASE_URL=postgres://postgres@127.0.0.1:5432/test): worker "
-            "processes cannot see SQLite's in-memory test database"
-        )
+    skip_unless_postgresql()
     settings.TASKS = {"default": {"BACKEND": "django_tasks_db.DatabaseBackend"}}
     settings.PORTFOLIO_LEASE_SECONDS = LEASE
     settings.PLANNER_COMPUTE_CAP = 1_000  # the plan below is too large for a page; a worker takes it

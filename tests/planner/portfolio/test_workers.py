@@ -29,13 +29,17 @@ ROOT = Path(__file__).resolve().parents[3]
 LEASE = 2  # seconds
 
 
-@pytest.fixture(autouse=True)
-def _settings(settings):
+def skip_unless_postgresql() -> None:
     if connection.vendor != "postgresql":
         pytest.skip(
             "needs the suite on PostgreSQL (DATABASE_URL=postgres://postgres@127.0.0.1:5432/test): worker "
             "processes cannot see SQLite's in-memory test database"
         )
+
+
+@pytest.fixture(autouse=True)
+def _settings(settings):
+    skip_unless_postgresql()
     settings.TASKS = {"default": {"BACKEND": "django_tasks_db.DatabaseBackend"}}
     settings.PORTFOLIO_CHUNK_ITEMS = 12
     settings.PORTFOLIO_LEASE_SECONDS = LEASE
