@@ -119,6 +119,34 @@ def reorder_item_work(item: ReorderItem) -> Work:
     return reorder_point_plan_work(item.demand, item.lead_time, item.measure, item.order_quantity, item.review_period)
 
 
+def spares_item_work(item: SparesItem) -> Work:
+    """Work a spares item cannot do without: the long-run figures of the pool it holds and of the search's
+    first candidate (no spares). The search past that first candidate spends what is left of the cap and
+    stops there (``walkmath.sparesizing``), so this is the part of its work a price can refuse."""
+    held, first = (_pool(item, spares) for spares in (item.spares, 0))
+    return held.cost("long_run") + first.cost("long_run")
+
+
+_WORK = {StockItem: stock_item_work, ReorderItem: reorder_item_work, SparesItem: spares_item_work}
+
+
+def item_work(item: StockItem | ReorderItem | SparesItem) -> Work:
+    """The price of one item of any kind (ValueError when its values are not valid)."""
+    return _WORK[type(item)](item)
+
+
+def item_refusal(item: StockItem | ReorderItem | SparesItem, cap: int = WORK_CAP) -> str:
+    """Why ``item`` would not be worked out under ``cap``, from its price alone (no work done): over the
+    cap, or parameters that are not valid; "" when it fits. The reasons are those ``answer_items`` gives."""
+    try:
+        item_work(item).check(cap)
+    except ComputeTooLarge as exc:
+        return f"too large to work out: {exc}"
+    except ValueError as exc:
+        return str(exc)
+    return ""
+
+
 # -- the reference: item by item through the single-item engine --------------
 
 
@@ -149,14 +177,8 @@ def answer_reorder_item(item: ReorderItem, cap: int = WORK_CAP) -> ReorderAnswer
 
 
 def answer_spares_item(item: SparesItem, cap: int = WORK_CAP) -> SparesAnswer:
-    pool = SparesPool(
-        units=item.units,
-        spares=item.spares,
-        failure_rate=item.failure_rate,
-        repair_rate=item.repair_rate,
-        crews=item.crews,
-        warm_failure_rate=item.warm_failure_rate,
-    )
+    spares_item_work(item).check(cap)
+    pool = _pool(item, item.spares)
     smallest = smallest_spares(
         item.units,
         item.failure_rate,
@@ -167,6 +189,17 @@ def answer_spares_item(item: SparesItem, cap: int = WORK_CAP) -> SparesAnswer:
         cap=cap,
     )
     return SparesAnswer(pool.availability(), pool.unavailability(), smallest)
+
+
+def _pool(item: SparesItem, spares: int) -> SparesPool:
+    return SparesPool(
+        units=item.units,
+        spares=spares,
+        failure_rate=item.failure_rate,
+        repair_rate=item.repair_rate,
+        crews=item.crews,
+        warm_failure_rate=item.warm_failure_rate,
+    )
 
 
 _ANSWER = {StockItem: answer_stock_item, ReorderItem: answer_reorder_item, SparesItem: answer_spares_item}

@@ -1,7 +1,10 @@
 """A portfolio run: an uploaded table of items, split into chunks that background workers work out.
 
 Rows are stored once at upload (``PortfolioItem``); a run, once started, hands
-its good rows out in chunks (``PortfolioChunk``), one task each. A chunk's
+its good rows out in chunks (``PortfolioChunk``). A chunk goes through the queue
+twice: first to be priced (every item through the engine's cost model; an item
+over the cap is written as refused there, never queued for work), then to be
+worked out (``planner.portfolio.tasks``). A chunk's
 results (``PortfolioResult``, at most one per item: the database refuses a
 second) are written in the same transaction that marks the chunk done, so a
 chunk is either wholly written or not at all, and a chunk worked out twice
@@ -80,6 +83,7 @@ class PortfolioChunk(models.Model):
     unanswered = models.PositiveIntegerField(default=0)
     attempts = models.PositiveIntegerField(default=0)
     heartbeat = models.DateTimeField(null=True, blank=True)  # last sign of life of the worker on it
+    priced = models.BooleanField(default=False)  # its items priced, those over the cap written as refused
     engine_seconds = models.FloatField(default=0.0)  # time inside the engine, for the benchmark
     task_id = models.CharField(max_length=64, blank=True)  # the queue's task for its latest try
 

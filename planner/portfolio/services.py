@@ -1,11 +1,13 @@
 """Writes of portfolio runs (``noun_verb``, keyword-only): create from a read file, start, cancel, share,
-and the workers' side: claim a chunk, finish it, hand out again the chunks of workers that stopped.
+and the workers' side: claim a chunk, write its pricing's refusals, finish it, hand out again the chunks
+of workers that stopped.
 
 Lock order, everywhere: the run's row before a chunk's row (no two transactions
-wait on each other). A chunk's results and its mark "done" are written in one
-transaction; the database holds at most one result per item
-(``PortfolioResult.item`` is its primary key), so a chunk worked out twice is
-written once: the second finisher sees it done and writes nothing.
+wait on each other). A chunk's refusals and its mark "priced", then its results
+and its mark "done", are each written in one transaction; the database holds at
+most one result per item (``PortfolioResult.item`` is its primary key), so a
+chunk priced or worked out twice is written once: the second worker sees it
+priced (done) and writes nothing.
 """
 
 from __future__ import annotations
@@ -36,7 +38,7 @@ MIN_CHUNKS = 8
 
 def run_create(*, owner, title: str, parsed: ItemsFile, file_name: str = "") -> PortfolioRun:
     """Store every row of ``parsed``, bad rows with their message. Nothing is queued yet (``run_start``);
-    each good row is priced by the engine's cost model in the worker, before any engine work (building
+    each good row is priced by the engine's cost model on a worker, before its work is queued (building
     the laws a price needs takes milliseconds an item: too long for the upload's request)."""
     with transaction.atomic():
         run = PortfolioRun(owner=owner, title=title, file_name=file_name[:255], rows=len(parsed.rows))
@@ -76,9 +78,9 @@ def _json(spec) -> str | None:
 
 
 def run_start(*, run: PortfolioRun, queue_name: str = "default") -> PortfolioRun:
-    """Split the run's good rows into chunks of ``PORTFOLIO_CHUNK_ITEMS`` and queue one task each (after
-    the transaction commits, so a worker never sees a chunk that is not there yet). A started run is left
-    as it is."""
+    """Split the run's good rows into chunks of ``PORTFOLIO_CHUNK_ITEMS`` and queue each chunk's pricing
+    (after the transaction commits, so a worker never sees a chunk that is not there yet). A started run
+    is left as it is."""
     from planner.portfolio import tasks
 
     with transaction.atomic():
@@ -170,13 +172,16 @@ def run_unshare(*, run: PortfolioRun, user=None, group=None) -> None:
 # -- the workers' side ------------------------------------------------------------
 
 
-def chunk_claim(*, chunk_id: int) -> list[PortfolioItem] | None:
-    """Mark the chunk running for this worker and return its items in row order; None when there is
-    nothing to do (done, cancelled, gone, or another worker alive on it)."""
+def chunk_claim(*, chunk_id: int, priced: bool) -> list[PortfolioItem] | None:
+    """Mark the chunk running for this worker and return its items still without a result, in row order;
+    None when there is nothing to do (done, cancelled, gone, another worker alive on it, or the chunk is
+    not at this stage: ``priced`` False for its pricing, True for its work)."""
     now = timezone.now()
     with transaction.atomic():
         chunk = PortfolioChunk.objects.select_for_update().filter(pk=chunk_id).select_related("run").first()
-        if chunk is None or chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED, ChunkStatus.CANCELLED):
+        if chunk is None or chunk.priced != priced:
+            return None
+        if chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED, ChunkStatus.CANCELLED):
             return None
         if chunk.run.status == RunStatus.CANCELLED:
             chunk.status = ChunkStatus.CANCELLED
@@ -187,7 +192,30 @@ def chunk_claim(*, chunk_id: int) -> list[PortfolioItem] | None:
         chunk.status, chunk.heartbeat, chunk.attempts = ChunkStatus.RUNNING, now, chunk.attempts + 1
         chunk.save(update_fields=["status", "heartbeat", "attempts"])
     PortfolioRun.objects.filter(pk=chunk.run_id, status=RunStatus.QUEUED).update(status=RunStatus.RUNNING)
-    return list(PortfolioItem.objects.filter(chunk_id=chunk_id).order_by("row"))
+    return list(PortfolioItem.objects.filter(chunk_id=chunk_id, result__isnull=True).order_by("row"))
+
+
+def chunk_priced(*, chunk_id: int, refused: list[PortfolioResult], engine_seconds: float = 0.0) -> bool:
+    """Write the refusals of the chunk's items over the cap (or not valid), mark it priced and waiting for its
+    work, in one transaction; True when items are left to work out (the caller queues the work in the same
+    transaction). False, with nothing written, when another worker priced it first or it was given up;
+    False too when every item was refused (the chunk is then done)."""
+    with transaction.atomic():
+        run_id = PortfolioChunk.objects.filter(pk=chunk_id).values_list("run_id", flat=True).first()
+        if run_id is None:
+            return False
+        run = PortfolioRun.objects.select_for_update().get(pk=run_id)
+        chunk = PortfolioChunk.objects.select_for_update().get(pk=chunk_id)
+        if chunk.priced or chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED, ChunkStatus.CANCELLED):
+            return False
+        PortfolioResult.objects.bulk_create(refused)
+        chunk.priced, chunk.unanswered, chunk.engine_seconds = True, len(refused), engine_seconds
+        left = len(refused) < chunk.items
+        chunk.status, chunk.heartbeat = (ChunkStatus.WAITING, None) if left else (ChunkStatus.DONE, chunk.heartbeat)
+        chunk.save(update_fields=["priced", "unanswered", "engine_seconds", "status", "heartbeat"])
+        if not left:
+            _close_if_complete(run)
+    return left
 
 
 def chunks_mark_queued(*, tasks: dict[int, str]) -> None:
@@ -208,8 +236,8 @@ def chunk_beat(*, chunk_id: int) -> None:
 
 
 def chunk_finish(*, chunk_id: int, results: list[PortfolioResult], engine_seconds: float = 0.0) -> bool:
-    """Write the chunk's results and mark it done, in one transaction; False (nothing written) when the
-    chunk was already written by another worker or given up."""
+    """Write the results of the chunk's items left after its pricing and mark it done, in one transaction;
+    False (nothing written) when the chunk was already written by another worker or given up."""
     with transaction.atomic():
         run_id = PortfolioChunk.objects.filter(pk=chunk_id).values_list("run_id", flat=True).first()
         if run_id is None:
@@ -219,9 +247,9 @@ def chunk_finish(*, chunk_id: int, results: list[PortfolioResult], engine_second
         if chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED):
             return False
         PortfolioResult.objects.bulk_create(results)
-        chunk.status, chunk.engine_seconds = ChunkStatus.DONE, engine_seconds
+        chunk.status, chunk.engine_seconds = ChunkStatus.DONE, chunk.engine_seconds + engine_seconds
         chunk.answered = sum(1 for result in results if result.answered)
-        chunk.unanswered = len(results) - chunk.answered
+        chunk.unanswered += len(results) - chunk.answered
         chunk.save(update_fields=["status", "engine_seconds", "answered", "unanswered"])
         _close_if_complete(run)
     return True

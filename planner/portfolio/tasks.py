@@ -1,9 +1,15 @@
 """Background work of portfolio runs, through Django's Tasks interface (the ``django_tasks`` backport).
 
-``work_out_chunk`` works out one chunk: claim it, answer its items through
-``walkmath.portfolio.answer_items`` (each item priced before it runs; one
-bad or oversized item gets its reason, the others their answers), then write
-the results and mark the chunk done in one transaction.
+Each chunk is queued twice. ``price_chunk`` prices its items through the
+engine's cost model (``walkmath.portfolio.item_refusal``): an item over
+``PORTFOLIO_ITEM_CAP``, or whose values do not make an item, gets its reason
+written there and is never queued for work; the chunk's work is queued in the
+same transaction that marks it priced. ``work_out_chunk`` answers the items
+left through ``walkmath.portfolio.answer_items`` (which prices each again
+before any work, as a guard), then writes the results and marks the chunk done
+in one transaction. Pricing runs on the workers, chunk by chunk, in parallel
+(building a price's laws takes milliseconds an item: too long for the request
+that starts the run).
 
 The database queue (``django_tasks_db``) never hands a task out again once a
 worker has claimed it, even when that worker is killed (its row stays
@@ -23,21 +29,22 @@ import datetime
 import time
 
 from django.conf import settings
+from django.db import transaction
 from django.utils import timezone
-from django_tasks import DEFAULT_TASK_QUEUE_NAME, default_task_backend, task
+from django_tasks import DEFAULT_TASK_QUEUE_NAME, TaskContext, default_task_backend, task
 
 from planner.heartbeat import Heartbeat, tasks_taken_before
 from planner.portfolio import items as item_specs
 from planner.portfolio import services
-from planner.portfolio.models import OPEN_STATUSES, PortfolioResult, PortfolioRun
+from planner.portfolio.models import OPEN_STATUSES, PortfolioChunk, PortfolioResult, PortfolioRun
 from walkmath import portfolio as pf
 
 
 def enqueue_run(run_id: int, chunk_ids: list[int], queue_name: str = DEFAULT_TASK_QUEUE_NAME) -> None:
-    """Queue every chunk of a run on ``queue_name`` (the benchmark keeps its own), then the run's watcher
-    (when the backend can run a task later)."""
-    chunk_task = work_out_chunk.using(queue_name=queue_name)
-    services.chunks_mark_queued(tasks={chunk_id: chunk_task.enqueue(chunk_id).id for chunk_id in chunk_ids})
+    """Queue the pricing of every chunk of a run on ``queue_name`` (the benchmark keeps its own; each
+    chunk's work follows on the same queue), then the run's watcher (when the backend can run a task later)."""
+    pricing = price_chunk.using(queue_name=queue_name)
+    services.chunks_mark_queued(tasks={chunk_id: pricing.enqueue(chunk_id).id for chunk_id in chunk_ids})
     _watch_later(run_id)
 
 
@@ -51,13 +58,15 @@ def requeue_stale(run: PortfolioRun) -> int:
     """Queue again the chunks of ``run`` whose worker went silent, and those whose task a worker took and
     then died before claiming the chunk; how many."""
     again = services.chunks_requeue_stale(run=run, lost=_lost_chunks(run))
-    services.chunks_mark_queued(tasks={chunk_id: work_out_chunk.enqueue(chunk_id).id for chunk_id in again})
+    priced = set(PortfolioChunk.objects.filter(pk__in=again, priced=True).values_list("pk", flat=True)) if again else ()
+    stage = {chunk_id: work_out_chunk if chunk_id in priced else price_chunk for chunk_id in again}
+    services.chunks_mark_queued(tasks={chunk_id: stage[chunk_id].enqueue(chunk_id).id for chunk_id in again})
     return len(again)
 
 
 def _lost_chunks(run: PortfolioRun) -> list[int]:
-    """Waiting chunks whose task a worker took more than a lease ago without the chunk ever being claimed:
-    that worker died between the two."""
+    """Waiting chunks whose task (pricing or work) a worker took more than a lease ago without the chunk
+    ever being claimed: that worker died between the two."""
     waiting = services.waiting_tasks(run)
     return [waiting[task_id] for task_id in tasks_taken_before(work_out_chunk, waiting)]
 
@@ -74,9 +83,36 @@ def watch_run(run_id: int) -> int:
     return again
 
 
+@task(takes_context=True)
+def price_chunk(context: TaskContext, chunk_id: int) -> dict:
+    items = services.chunk_claim(chunk_id=chunk_id, priced=False)
+    if items is None:
+        return {"chunk": chunk_id, "priced": False}
+    with Heartbeat(lambda: services.chunk_beat(chunk_id=chunk_id), f"chunk {chunk_id}"):
+        refused, engine_seconds = price_items(items)
+    with transaction.atomic():  # the chunk marked priced and its work queued together, or neither
+        if services.chunk_priced(chunk_id=chunk_id, refused=refused, engine_seconds=engine_seconds):
+            work = work_out_chunk.using(queue_name=context.task_result.task.queue_name).enqueue(chunk_id)
+            services.chunks_mark_queued(tasks={chunk_id: work.id})
+    return {"chunk": chunk_id, "priced": True, "refused": len(refused), "engine_seconds": engine_seconds}
+
+
+def price_items(items) -> tuple[list[PortfolioResult], float]:
+    """The refusal rows (unsaved) of the items whose values do not make an engine item or whose price is
+    over ``PORTFOLIO_ITEM_CAP``, and the seconds spent inside the engine."""
+    began = time.perf_counter()
+    refused, laws = [], item_specs.Laws()
+    for item in items:
+        engine_item, reason = item_specs.built(item.spec, laws)
+        reason = reason or pf.item_refusal(engine_item, cap=settings.PORTFOLIO_ITEM_CAP)
+        if reason:
+            refused.append(PortfolioResult(item=item, run_id=item.run_id, answered=False, reason=reason))
+    return refused, time.perf_counter() - began
+
+
 @task()
 def work_out_chunk(chunk_id: int) -> dict:
-    items = services.chunk_claim(chunk_id=chunk_id)
+    items = services.chunk_claim(chunk_id=chunk_id, priced=True)
     if items is None:
         return {"chunk": chunk_id, "written": False}
     with Heartbeat(lambda: services.chunk_beat(chunk_id=chunk_id), f"chunk {chunk_id}"):
@@ -91,9 +127,9 @@ def work_out_chunk(chunk_id: int) -> dict:
 def answer_chunk(items) -> tuple[list[PortfolioResult], float]:
     """Every item's result row (unsaved), and the seconds spent inside the engine.
 
-    Each item is priced by the engine's cost model first (``answer_items`` prices every item before any
-    work); one over ``PORTFOLIO_ITEM_CAP`` gets its reason and is not run. Laws are built once per chunk
-    and shared by the items that repeat them.
+    Items were priced before their work was queued (``price_chunk``); ``answer_items`` prices each again
+    before any work, so an item over ``PORTFOLIO_ITEM_CAP`` still gets its reason and is not run. Laws are
+    built once per chunk and shared by the items that repeat them.
     """
     began = time.perf_counter()
     built, reasons, laws = [], {}, item_specs.Laws()

@@ -178,6 +178,31 @@ def test_batched_answers_equal_the_reference_under_a_tight_cap():
         assert_same_outcomes(pf.answer_items(items, cap=cap), reference)
 
 
+def test_a_refusal_at_the_price_is_the_reference_refusal_without_any_work():
+    # What a portfolio run writes for an item before queueing its work (``item_refusal``) is what the
+    # reference would answer for it: over the cap, or not valid. An item that fits may still be refused
+    # later (a capacity or spares search reaching the cap); none refused at its price is ever answered.
+    items = _mixed_portfolio()
+    items.append(pf.SparesItem(units=40, spares=3, failure_rate=0.05, repair_rate=0.5, availability_target=0.99))
+    invalid = [item for item in items if pf.item_refusal(item) and not pf.item_refusal(item).startswith("too large")]
+    assert len(invalid) >= 4  # the bad stock items' values, refused at any cap
+    prices = sorted(pf.item_work(item).units for item in items if item not in invalid)
+    for cap in (prices[0] - 1, prices[len(prices) // 2], prices[-1], pf.WORK_CAP):
+        reference = pf.answer_items_by_item(items, cap=cap)
+        refusals = [pf.item_refusal(item, cap=cap) for item in items]
+        for item, refusal, outcome in zip(items, refusals, reference, strict=True):
+            if refusal:
+                assert outcome.answer is None and outcome.reason == refusal, item
+        over = sum(refusal.startswith("too large to work out:") for refusal in refusals)
+        assert over == sum(price > cap for price in prices)  # every item priced, each against the cap
+    spares = items[-1]
+    held = wm.SparesPool(units=40, spares=3, failure_rate=0.05, repair_rate=0.5).cost("long_run").units
+    none = wm.SparesPool(units=40, spares=0, failure_rate=0.05, repair_rate=0.5).cost("long_run").units
+    assert pf.spares_item_work(spares).units == held + none  # the two pools every spares answer works out
+    assert pf.item_refusal(spares, cap=held + none) == ""
+    assert pf.item_refusal(spares, cap=held + none - 1).startswith("too large to work out:")
+
+
 def test_batched_answers_equal_the_reference_on_a_sampled_store():
     # The benchmark's store on a shorter horizon (the reference takes up to a second an item at 90 days).
     stock = [dataclasses.replace(item, horizon=30) for item in portfolio_sample.stock_items(40, seed=7)]

@@ -1,12 +1,14 @@
 """Portfolio runs on SQLite, the embedded default: the database queue drained by an in-process
 ``db_worker --batch``; every item's figures equal the engine's own answer for it
-(``walkmath.portfolio.answer_items``); chunks written once; silent workers' chunks handed out again."""
+(``walkmath.portfolio.answer_items``); items over the cap refused at their price, before any work is
+queued; chunks written once; silent workers' chunks handed out again at the stage they were at."""
 
 import datetime
 
 import pytest
 from django.core.management import call_command
 from django.utils import timezone
+from django_tasks_db.models import DBTaskResult
 
 from planner.portfolio import services, tasks
 from planner.portfolio.models import ChunkStatus, PortfolioChunk, PortfolioItem, PortfolioResult, RunStatus
@@ -25,6 +27,16 @@ def _small_chunks(settings):
 
 def _drain():
     call_command("db_worker", batch=True, startup_delay=False, reload=False, interval=0, verbosity=0)
+
+
+def _price_by_hand(chunk) -> None:
+    """What ``tasks.price_chunk`` does, without its task (so no work is queued)."""
+    refused, _ = tasks.price_items(services.chunk_claim(chunk_id=chunk.pk, priced=False))
+    services.chunk_priced(chunk_id=chunk.pk, refused=refused)
+
+
+def _tasks_of(stage) -> DBTaskResult:
+    return DBTaskResult.objects.filter(task_path=stage.module_path)
 
 
 def test_run_on_the_database_queue_equals_the_engine_item_by_item(owner):
@@ -59,28 +71,58 @@ def test_every_row_is_stored_as_read(owner):
     assert sum(item.spec is None and item.refusal != "" for item in stored.values()) == 2
 
 
-def test_an_item_over_the_cap_is_priced_reported_and_not_run(owner, settings, monkeypatch):
+def test_an_item_over_the_cap_is_reported_at_its_price_and_never_queued_for_work(owner, settings, monkeypatch):
     settings.PORTFOLIO_ITEM_CAP = 10**6  # below a 20-period stock item's price, above a reorder item's
-    swept = []
+    swept, worked = [], []
     for name in ("stacked_risks", "room_overflow"):  # every sweep of the batched stock path
         sweep = getattr(pf_engine, name)
         monkeypatch.setattr(pf_engine, name, lambda *a, _sweep=sweep, **k: swept.append(a) or _sweep(*a, **k))
     monkeypatch.setattr(pf, "answer_stock_item", lambda *a, **k: swept.append(a))  # and the item-by-item one
+    answer_items = pf.answer_items
+    monkeypatch.setattr(pf, "answer_items", lambda items, **k: worked.extend(items) or answer_items(items, **k))
     run = services.run_start(
         run=services.run_create(owner=owner, title="Shelf", parsed=parsed(stock=2, reorder=1, spares=0, bad=0))
     )
+    assert run.chunks.count() == 3 and _tasks_of(tasks.price_chunk).count() == 3 and not _tasks_of(tasks.work_out_chunk)
     _drain()
     refused = PortfolioResult.objects.filter(run=run, answered=False)
     assert sorted(refused.values_list("item__code", flat=True)) == ["BIN-0", "BIN-1"]
     assert all(result.reason.startswith("too large to work out:") for result in refused)
     assert PortfolioResult.objects.filter(run=run, answered=True).count() == 1  # the reorder item
     assert swept == []  # priced by the engine's cost model and refused before any stock sweep
+    assert [type(item) for item in worked] == [pf.ReorderItem]  # the only item whose work was queued
+    assert _tasks_of(tasks.work_out_chunk).count() == 1  # the stock items' chunks never went to work
+    run.refresh_from_db()
+    assert run.status == RunStatus.FINISHED
+    progress = services.run_progress(run)
+    assert (progress["done"], progress["failed"]) == (3, 2)
+
+
+def test_a_chunk_priced_is_reported_before_its_work_and_priced_once(owner, settings):
+    settings.PORTFOLIO_ITEM_CAP = 10**6  # below a stock or spares item's price, above a reorder item's
+    table = parsed(stock=4, reorder=5, spares=0, bad=0)
+    run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=table))
+    stock = PortfolioItem.objects.get(run=run, code="BIN-0").chunk
+    _price_by_hand(stock)
+    stock.refresh_from_db()
+    assert stock.priced and stock.unanswered == stock.items > 0  # every stock item refused at its price
+    assert stock.status == ChunkStatus.DONE  # no work left to queue
+    assert services.run_progress(run)["failed"] == stock.items  # reported before any chunk was worked out
+    assert services.chunk_priced(chunk_id=stock.pk, refused=[]) is False  # a second pricer writes nothing
+    assert services.chunk_claim(chunk_id=stock.pk, priced=False) is None
+    reorder = PortfolioItem.objects.get(run=run, code="ORD-0").chunk
+    _price_by_hand(reorder)
+    reorder.refresh_from_db()
+    assert reorder.priced and reorder.unanswered == 0 and reorder.status == ChunkStatus.WAITING
+    assert services.chunk_claim(chunk_id=reorder.pk, priced=False) is None  # a stale pricing task: nothing to do
+    assert len(services.chunk_claim(chunk_id=reorder.pk, priced=True)) == reorder.items
 
 
 def test_a_chunk_finished_twice_is_written_once(owner):
     run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
     chunk = run.chunks.first()
-    items = services.chunk_claim(chunk_id=chunk.pk)
+    _price_by_hand(chunk)
+    items = services.chunk_claim(chunk_id=chunk.pk, priced=True)
     results, _ = tasks.answer_chunk(items)
     assert services.chunk_finish(chunk_id=chunk.pk, results=results) is True
     again, _ = tasks.answer_chunk(items)  # a second worker that thought the first one dead
@@ -93,13 +135,13 @@ def test_a_silent_chunk_is_handed_out_again_then_given_up(owner, settings):
     run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
     chunk = run.chunks.first()
     silent = timezone.now() - datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS + 1)
-    assert services.chunk_claim(chunk_id=chunk.pk) is not None
-    assert services.chunk_claim(chunk_id=chunk.pk) is None  # its worker is alive: nobody else takes it
+    assert services.chunk_claim(chunk_id=chunk.pk, priced=False) is not None
+    assert services.chunk_claim(chunk_id=chunk.pk, priced=False) is None  # its worker is alive: nobody else takes it
     PortfolioChunk.objects.filter(pk=chunk.pk).update(heartbeat=silent)  # ...then goes silent
     assert services.chunks_requeue_stale(run=run) == [chunk.pk]
     chunk.refresh_from_db()
     assert chunk.status == ChunkStatus.WAITING and chunk.attempts == 1
-    assert services.chunk_claim(chunk_id=chunk.pk) is not None  # second try
+    assert services.chunk_claim(chunk_id=chunk.pk, priced=False) is not None  # second try
     PortfolioChunk.objects.filter(pk=chunk.pk).update(heartbeat=silent)
     assert services.chunks_requeue_stale(run=run) == []  # given up after two tries
     chunk.refresh_from_db()
@@ -117,7 +159,10 @@ def test_a_silent_chunk_is_handed_out_again_then_given_up(owner, settings):
 def test_cancel_stops_the_waiting_chunks_and_keeps_the_rows_done(owner):
     run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
     first = run.chunks.first()
-    services.chunk_finish(chunk_id=first.pk, results=tasks.answer_chunk(services.chunk_claim(chunk_id=first.pk))[0])
+    _price_by_hand(first)
+    services.chunk_finish(
+        chunk_id=first.pk, results=tasks.answer_chunk(services.chunk_claim(chunk_id=first.pk, priced=True))[0]
+    )
     run = services.run_cancel(run=run)
     _drain()
     assert run.status == RunStatus.CANCELLED
@@ -132,9 +177,25 @@ def test_immediate_backend_works_the_run_out_when_it_starts(owner, settings):
     assert run.status == RunStatus.FINISHED and PortfolioResult.objects.filter(run=run, answered=True).count() == 12
 
 
-def test_a_task_taken_by_a_worker_that_died_before_claiming_its_chunk_is_queued_again(owner, settings):
-    from django_tasks_db.models import DBTaskResult
+def test_a_silent_chunk_is_handed_out_again_at_the_stage_it_was_at(owner, settings):
+    run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
+    pricing, working = run.chunks.all()[:2]
+    silent = timezone.now() - datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS + 1)
+    assert services.chunk_claim(chunk_id=pricing.pk, priced=False) is not None  # its pricing worker dies
+    _price_by_hand(working)
+    assert services.chunk_claim(chunk_id=working.pk, priced=True) is not None  # its work's worker dies
+    PortfolioChunk.objects.filter(pk__in=[pricing.pk, working.pk]).update(heartbeat=silent)
+    assert tasks.requeue_stale(run) == 2
+    pricing.refresh_from_db()
+    working.refresh_from_db()
+    assert DBTaskResult.objects.get(id=pricing.task_id).task_path == tasks.price_chunk.module_path
+    assert DBTaskResult.objects.get(id=working.task_id).task_path == tasks.work_out_chunk.module_path
+    _drain()
+    run.refresh_from_db()
+    assert run.status == RunStatus.FINISHED and PortfolioResult.objects.filter(run=run, answered=True).count() == 12
 
+
+def test_a_task_taken_by_a_worker_that_died_before_claiming_its_chunk_is_queued_again(owner, settings):
     run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
     chunk = run.chunks.first()
     long_ago = timezone.now() - datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS + 1)
