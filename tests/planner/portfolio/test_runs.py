@@ -71,6 +71,11 @@ def test_every_row_is_stored_as_read(owner):
     assert sum(item.spec is None and item.refusal != "" for item in stored.values()) == 2
 
 
+def test_a_result_row_is_stored_whole():
+    # The bulk write of results names its columns: every field of a result, none left to a default.
+    assert set(services.RESULT_COLUMNS) == {field.name for field in PortfolioResult._meta.concrete_fields}
+
+
 def test_an_item_over_the_cap_is_reported_at_its_price_and_never_queued_for_work(owner, settings, monkeypatch):
     settings.PORTFOLIO_ITEM_CAP = 10**6  # below a 20-period stock item's price, above a reorder item's
     swept, worked = [], []
