@@ -43,6 +43,31 @@ def test_the_results_page_waits_then_fills_in(page, live_server, owner, width):
     assert download.value.path().read_text(encoding="utf-8").count("\n") > 2
 
 
+def test_a_large_plan_saves_changes_as_a_new_plan_instead_of_redrawing(page, live_server, owner):
+    scenario = example_scenario(owner, "stock_plan")
+    sign_in(page, live_server, "olwen")
+    refused = []
+    page.on("response", lambda response: refused.append(response.url) if response.status >= 400 else None)
+    page.goto(f"{live_server.url}{scenario.get_absolute_url()}")
+    call_command("db_worker", batch=True, startup_delay=False, reload=False, interval=0, verbosity=0)
+    page.wait_for_selector("#worked-in-background")
+    assert "Change and save as a new plan" in page.inner_text(".whatif")
+    assert "Not offered for a plan this large" in page.inner_text("#cross-check-held")  # no request refused
+    asked = []
+    page.on("request", lambda request: asked.append(request.url) if "/outlook" in request.url else None)
+    start = page.locator("#whatif-form input[name=start]")
+    start.fill(str(int(start.input_value()) + 1))
+    start.press("Enter")
+    page.wait_for_selector("#whatif-status.held")
+    assert "save these values as a new plan" in page.inner_text("#whatif-status")
+    page.wait_for_timeout(600)  # past the what-if's 250 ms wait: a live page would have asked by now
+    assert asked == [] and refused == []  # nothing asked that a page request must refuse
+    page.fill("#whatif-title", "Bigger start")
+    page.click("#whatif-save")
+    page.wait_for_selector("#run-progress[data-state=queued]")  # the new plan goes to a worker in turn
+    assert page.inner_text("h1") == "Bigger start"
+
+
 def test_cancel_from_the_page(page, live_server, owner):
     scenario = example_scenario(owner, "stock_plan")
     sign_in(page, live_server, "olwen")

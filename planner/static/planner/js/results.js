@@ -11,6 +11,9 @@
   var headline = document.getElementById("headline");
   if (!form) { draw(figures); return; } // a read-only page: the saved plan's charts, no what-if
   var NOT_QUERIED = ["csrfmiddlewaretoken", "title", "name"]; // the save form's own fields
+  // A plan worked out in the background is too large to redraw while values change: its form only saves.
+  var live = form.dataset.live !== "off";
+  var HELD = "Not worked out while you type: save these values as a new plan to have them worked out.";
   var pending = null;
   var running = null; // { controller, sequence } of the request in flight
   var sequence = 0;
@@ -237,13 +240,14 @@
   form.addEventListener("input", function (event) {
     if (event.target === nameField) { return; }
     syncCapacity();
+    if (!live) { show("held", HELD); return; }
     schedule();
   });
   // Enter in a what-if value recomputes at once; only the Save button (or Enter in the name) saves.
   form.addEventListener("keydown", function (event) {
     if (event.key === "Enter" && event.target !== nameField && event.target.tagName === "INPUT") {
       event.preventDefault();
-      refresh();
+      if (live) { refresh(); }
     }
   });
   cancel.addEventListener("click", function () {
@@ -260,7 +264,7 @@
       if (field && NOT_QUERIED.indexOf(key) < 0) { field.value = value; }
     });
     syncCapacity();
-    refresh();
+    if (live) { refresh(); } else { show("held", ""); }
   });
   syncCapacity();
   draw(figures);
