@@ -72,10 +72,11 @@ class PoolJob(Job):
 
     def shared_figures(self, allowed: dict[str, int]) -> dict:
         """The shared figures by the names ``planner.pool_result.PoolResult`` reads; the risk by start
-        only when ``allowed`` has it (None otherwise, with ``BY_START_LEFT_OUT`` for the kind's notes)."""
+        only when ``allowed`` has it (None otherwise, with ``BY_START_LEFT_OUT`` for the kind's notes).
+        Each part of ``shared_parts`` is reported done (``part_done``) as soon as it is worked out."""
         rates, start, mission = self.rates, self.start, self.params.mission
         availability, unavailability = rates.availability_split()
-        return {
+        figures = {
             "params": self.params,
             "risk_target": self.risk_target,
             "availability": availability,
@@ -84,11 +85,19 @@ class PoolJob(Job):
             "mean_shortage_duration": rates.mean_shortage_duration(),
             "mean_time_to_shortage": rates.mean_time_to_shortage(start),
             "times": self.times,
-            "mission": rates.mission_curves(self.times, start),
-            "failed_law": rates.failed_law(self.times, start),
-            "time_split": rates.shortage_time(mission, start),
-            "by_start": self._by_start() if "by_start" in allowed else None,
         }
+        self.part_done("long_run")
+        figures["mission"] = rates.mission_curves(self.times, start)
+        self.part_done("mission")
+        figures["failed_law"] = rates.failed_law(self.times, start)
+        self.part_done("failed_law")
+        figures["time_split"] = rates.shortage_time(mission, start)
+        self.part_done("shortage_time")
+        figures["by_start"] = None
+        if "by_start" in allowed:
+            figures["by_start"] = self._by_start()
+            self.part_done("by_start")
+        return figures
 
     def _by_start(self) -> dict:
         """The mission risk from each number failed at the start, each start on its own sweep.

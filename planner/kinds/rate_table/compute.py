@@ -131,6 +131,7 @@ class RateTableJob(PoolJob):
         """Every figure of the page; optional parts not in ``allowed`` are left out with a note."""
         shared = self.shared_figures(allowed)
         speeds = self._speeds(allowed.get("speeds", 0))
+        self.part_done("speeds")
         left_out = [BY_START_LEFT_OUT] if shared["by_start"] is None else []
         if speeds is None or not speeds.complete:
             left_out.append("part of the figures by repair speed (too much work for one request)")

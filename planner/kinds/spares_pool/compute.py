@@ -179,10 +179,9 @@ class SparesJob(PoolJob):
         crew = self._long_run(crews=self.most_crews) + self._probe(crews=self.most_crews)
         crews = _search_bound(params.crews + 2, self.most_crews, crew, crew)
         by_crews = 2 * (MOST_SHOWN_SPARES + 1) * self._long_run(spares=MOST_SHOWN_SPARES)
-        shared = self.shared_parts()
-        shared[0] = Part("long_run", shared[0].units + availability)  # the availability search with the long run
         return [
-            *shared,
+            *self.shared_parts(),
+            Part("availability_search", availability),
             Part("spares_risk", risk, required=False, stops_itself=True),
             Part("crews", crews, required=False, stops_itself=True),
             Part("by_crews", by_crews, required=False, stops_itself=True),
@@ -194,21 +193,26 @@ class SparesJob(PoolJob):
         shared = self.shared_figures(allowed)
         left_out = [BY_START_LEFT_OUT] if shared["by_start"] is None else []
         availability_scan = self._spares_curve(self.shown_spares, params.crews, availability=True)
+        self.part_done("availability_search")
         shown = min(max(self.shown_spares, (availability_scan.smallest or 0) + SPARES_MARGIN), MOST_SHOWN_SPARES)
         spares_risk = self._spares_risk(allowed.get("spares_risk", 0), shown)
+        self.part_done("spares_risk")
         if spares_risk is None or spares_risk.budget_reached:
             left_out.append("part of the mission risk by number of spares (too much work for one request)")
         if spares_risk is not None and spares_risk.smallest is not None:
             shown = min(max(shown, spares_risk.smallest + SPARES_MARGIN), MOST_SHOWN_SPARES)
         crews_long_run, crews_risk = self._crews(allowed.get("crews", 0))
+        self.part_done("crews")
         if crews_risk is None or crews_risk.budget_reached:
             left_out.append("part of the risk by number of repair crews (too much work for one request)")
+        spares_long_run = self._spares_by_crews(shown, allowed.get("by_crews", 0))
+        self.part_done("by_crews")
         return SparesResult(
             **shared,
             pool=pool,
             expected_operating=pool.expected_operating(),
             expected_units_short=pool.expected_units_short(),
-            spares_long_run=self._spares_by_crews(shown, allowed.get("by_crews", 0)),
+            spares_long_run=spares_long_run,
             spares_risk=spares_risk,
             crews_long_run=crews_long_run,
             crews_risk=crews_risk,

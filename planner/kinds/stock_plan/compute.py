@@ -240,6 +240,9 @@ class StockJob(Job):
         else:
             why = "set a capacity" if params.high is None else "too large a solve for one request"
             left_out.append(f"the expected {period_name(params.period, 2)} to the first stock-out ({why})")
+        start_answer = self._start_answer(start_risk, budget=allowed.get("capacity_for_stockout", 0))
+        if "capacity_for_stockout" in allowed:
+            self.part_done("capacity_for_stockout")  # run, or not needed: the target is within reach
         return StockResult(
             params=params,
             stockout_target=self.stockout_target,
@@ -247,7 +250,7 @@ class StockJob(Job):
             laws=self.laws,
             outlook=outlook,
             start_risk=start_risk,
-            start_answer=self._start_answer(start_risk, budget=allowed.get("capacity_for_stockout", 0)),
+            start_answer=start_answer,
             capacity_answer=capacity_answer,
             both_answer=both_answer,
             mean_periods_to_stockout=mean_time,

@@ -277,14 +277,16 @@ def test_a_read_only_link_shows_the_bar_without_controls(client, owner):
     assert "Reload this page later" in text and 'id="cancel-work"' not in text and "data-status-url" not in text
 
 
-def test_the_bar_moves_part_by_part(owner, settings):
-    """Each part the stock plan's job reports done raises the share done, priced by the engine's cost model."""
+@pytest.mark.parametrize("kind", KIND_EXAMPLES)
+def test_the_bar_moves_part_by_part(owner, kind):
+    """Each part a kind's job reports done raises the share done, priced by the engine's cost model, and every
+    part it was allowed is reported, so the bar climbs in steps and reaches 100 % as the job ends."""
     from planner.background import tasks
 
-    scenario = example_scenario(owner, "stock_plan")
+    scenario = example_scenario(owner, kind)
     work = background.work_claim(work_id=BackgroundReading.objects.get().pk)
     job, allowed = reading.background_job(
-        kind=get_kind("stock_plan"), params=scenario.params, stockout_target=0.05, overflow_target=0.05
+        kind=get_kind(kind), params=scenario.params, stockout_target=0.05, overflow_target=0.05
     )
     background.work_progress(work_id=work.pk, attempt=work.attempts, units_done=0, units=sum(allowed.values()))
     listener = tasks._Progress(work.pk, work.attempts, allowed)
@@ -298,10 +300,13 @@ def test_the_bar_moves_part_by_part(owner, settings):
     job.on_part_done = record
     job.run(allowed)
     parts = [part for part, _ in seen]
-    assert parts[:2] == ["outlook", "risk_by_start"] and len(parts) >= 3
-    shares = [share for _, share in seen]
+    assert set(parts) >= set(allowed) and set(parts) <= {part.name for part in job.parts()}
+    assert len(set(parts)) >= 2 and len(parts) == len(set(parts))  # in steps, each part once
+    shares = [share for part, share in seen if part in allowed]
     assert all(later - earlier > 0 for earlier, later in zip(shares, shares[1:], strict=False))
-    assert shares[0] > 0 and shares[-1] <= 100.0
+    assert 0 < shares[0] < 100.0 and shares[-1] == 100.0
+    if kind == "stock_plan":
+        assert parts[:2] == ["outlook", "risk_by_start"]
 
 
 def test_the_api_answers_202_with_the_progress_then_200(client, owner):
