@@ -2,6 +2,7 @@
 
     .venv/bin/python manage.py bench_portfolio                 # 10,000 stock items and 10,000 reorder items
     .venv/bin/python manage.py bench_portfolio --stock 400     # fewer stock items (the rate is per item)
+    .venv/bin/python manage.py bench_portfolio --mean-decimals 3   # nearly every item with its own demand law
 
 Generates, with a fixed seed, a stock-plan portfolio (90 daily periods, capacities up to 200, Poisson
 daily demand and deliveries up to 20, smallest start and capacity for every item) and a reorder portfolio
@@ -40,20 +41,20 @@ SEED = 20241203
 USER = "bench-portfolio"
 
 
-def stock_csv(count: int, rng) -> bytes:
+def stock_csv(count: int, rng, decimals: int = 1) -> bytes:
     lines = ["item,kind,demand mean,supply mean,start level,capacity,horizon,stock-out target %,overflow target %"]
     for n in range(count):
-        mean = round(float(rng.uniform(1.0, 20.0)), 1)
+        mean = round(float(rng.uniform(1.0, 20.0)), decimals)
         capacity = int(rng.integers(40, 201))
         start = int(capacity * rng.uniform(0.3, 0.7))
         lines.append(f"S{n},stock,{mean},{mean},{start},{capacity},90,1,1")
     return ("\n".join(lines) + "\n").encode()
 
 
-def reorder_csv(count: int, rng) -> bytes:
+def reorder_csv(count: int, rng, decimals: int = 1) -> bytes:
     lines = ["item,kind,demand mean,lead time,service target %"]
     for n in range(count):
-        mean = round(float(rng.uniform(0.5, 20.0)), 1)
+        mean = round(float(rng.uniform(0.5, 20.0)), decimals)
         lines.append(f"R{n},reorder,{mean},{int(rng.integers(1, 31))},{rng.choice([90, 95, 98, 99])}")
     return ("\n".join(lines) + "\n").encode()
 
@@ -65,8 +66,15 @@ class Command(BaseCommand):
         parser.add_argument("--stock", type=int, default=10_000, help="stock items (default 10,000)")
         parser.add_argument("--reorder", type=int, default=10_000, help="reorder items (default 10,000)")
         parser.add_argument("--workers", default="1,2", help="worker counts to time, comma-separated")
+        parser.add_argument(
+            "--mean-decimals",
+            type=int,
+            default=1,
+            choices=range(0, 5),
+            help="decimals of each item's demand mean (default 1; 3 gives nearly every item a law of its own)",
+        )
 
-    def handle(self, *args, stock: int, reorder: int, workers: str, **options):
+    def handle(self, *args, stock: int, reorder: int, workers: str, mean_decimals: int, **options):
         if settings.TASKS["default"]["BACKEND"] != "django_tasks_db.DatabaseBackend":
             raise CommandError("bench_portfolio needs the database queue (PLANNER_TASKS_BACKEND=database)")
         counts = [int(n) for n in workers.split(",")]
@@ -78,7 +86,7 @@ class Command(BaseCommand):
         for name, make, count in (("stock plans", stock_csv, stock), ("reorder points", reorder_csv, reorder)):
             if not count:
                 continue
-            data = make(count, np.random.default_rng(SEED))
+            data = make(count, np.random.default_rng(SEED), mean_decimals)
             seconds = {}
             for workers_now in counts:
                 seconds[workers_now] = self._time(owner, name, data, workers_now)
