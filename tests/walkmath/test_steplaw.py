@@ -38,6 +38,27 @@ def test_poisson_matches_scipy_and_states_its_truncation(mean):
     assert law.mean == pytest.approx(mean, rel=1e-12)
 
 
+@pytest.mark.parametrize(
+    ("law", "tail"),
+    [(lambda m=m: wm.StepLaw.poisson(m), lambda k, m=m: stats.poisson.sf(k, m)) for m in (1e-9, 0.37, 19.876, 2.5e5)]
+    + [
+        # scipy.stats.nbinom with n = mean^2 / (var - mean), p = mean / var, as the constructor documents
+        (
+            lambda m=m, v=v: wm.StepLaw.negative_binomial(m, v),
+            lambda k, m=m, v=v: stats.nbinom.sf(k, m * m / (v - m), m / v),
+        )
+        for m, v in ((0.05, 5.0), (4.0, 10.0), (300.0, 300.3))
+    ],
+)
+def test_a_count_law_is_cut_at_the_first_count_whose_tail_is_small_enough(law, tail):
+    # Reference: scipy.stats' own survival function at every count up to the cut and one past it, the
+    # definition of the cut read straight off (no search): the smallest k with P(count > k) <= COUNT_TAIL.
+    cut = law().highest
+    tails = tail(np.arange(cut + 2))
+    assert cut == int(np.argmax(tails <= COUNT_TAIL)) and tails[cut] <= COUNT_TAIL
+    assert cut == 0 or tails[cut - 1] > COUNT_TAIL
+
+
 def test_negative_binomial_from_mean_and_variance():
     law = wm.StepLaw.negative_binomial(mean=4.0, variance=10.0)
     # reference: scipy.stats.nbinom with n = mean^2 / (var - mean), p = mean / var
