@@ -35,6 +35,7 @@ from planner.portfolio.models import (
 )
 
 MIN_CHUNKS = 8
+ENDED_CHUNKS = (ChunkStatus.DONE, ChunkStatus.FAILED, ChunkStatus.CANCELLED)  # no worker takes them again
 
 
 def run_create(*, owner, title: str, parsed: ItemsFile, file_name: str = "") -> PortfolioRun:
@@ -195,7 +196,7 @@ def chunk_claim(*, chunk_id: int, priced: bool) -> list[PortfolioItem] | None:
         chunk = PortfolioChunk.objects.select_for_update().filter(pk=chunk_id).select_related("run").first()
         if chunk is None or chunk.priced != priced:
             return None
-        if chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED, ChunkStatus.CANCELLED):
+        if chunk.status in ENDED_CHUNKS:
             return None
         if chunk.run.status == RunStatus.CANCELLED:
             chunk.status = ChunkStatus.CANCELLED
@@ -215,12 +216,8 @@ def chunk_priced(*, chunk_id: int, refused: list[PortfolioResult], engine_second
     transaction). False, with nothing written, when another worker priced it first or it was given up;
     False too when every item was refused (the chunk is then done)."""
     with transaction.atomic():
-        run_id = PortfolioChunk.objects.filter(pk=chunk_id).values_list("run_id", flat=True).first()
-        if run_id is None:
-            return False
-        run = PortfolioRun.objects.select_for_update().get(pk=run_id)
-        chunk = PortfolioChunk.objects.select_for_update().get(pk=chunk_id)
-        if chunk.priced or chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED, ChunkStatus.CANCELLED):
+        run, chunk = _lock_run_and_chunk(chunk_id)
+        if chunk is None or chunk.priced or chunk.status in ENDED_CHUNKS:
             return False
         _store_results(refused)
         chunk.priced, chunk.unanswered, chunk.engine_seconds = True, len(refused), engine_seconds
@@ -230,6 +227,16 @@ def chunk_priced(*, chunk_id: int, refused: list[PortfolioResult], engine_second
         if not left:
             _close_if_complete(run)
     return left
+
+
+def _lock_run_and_chunk(chunk_id: int) -> tuple[PortfolioRun | None, PortfolioChunk | None]:
+    """The chunk's run and the chunk, their rows locked in that order, inside the caller's transaction;
+    (None, None) when the chunk is gone."""
+    run_id = PortfolioChunk.objects.filter(pk=chunk_id).values_list("run_id", flat=True).first()
+    if run_id is None:
+        return None, None
+    run = PortfolioRun.objects.select_for_update().get(pk=run_id)
+    return run, PortfolioChunk.objects.select_for_update().get(pk=chunk_id)
 
 
 def chunks_mark_queued(*, tasks: dict[int, str]) -> None:
@@ -253,12 +260,8 @@ def chunk_finish(*, chunk_id: int, results: list[PortfolioResult], engine_second
     """Write the results of the chunk's items left after its pricing and mark it done, in one transaction;
     False (nothing written) when the chunk was already written by another worker or given up."""
     with transaction.atomic():
-        run_id = PortfolioChunk.objects.filter(pk=chunk_id).values_list("run_id", flat=True).first()
-        if run_id is None:
-            return False
-        run = PortfolioRun.objects.select_for_update().get(pk=run_id)
-        chunk = PortfolioChunk.objects.select_for_update().get(pk=chunk_id)
-        if chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED):
+        run, chunk = _lock_run_and_chunk(chunk_id)
+        if chunk is None or chunk.status in (ChunkStatus.DONE, ChunkStatus.FAILED):
             return False
         _store_results(results)
         chunk.status, chunk.engine_seconds = ChunkStatus.DONE, chunk.engine_seconds + engine_seconds
