@@ -15,18 +15,9 @@ from walkmath import checks
 from walkmath.cost import Work
 from walkmath.distribution import law_power_work
 from walkmath.policy import LEAD_CAP, UNMET_RULES, PeriodicReview, _count_law
-from walkmath.reviewdesign import (
-    MEASURES,
-    _at_gap,
-    _base_stock_bound,
-    _cells,
-    _inside,
-    _lost_solves_work,
-    _order_up_to_grid,
-    _policy_grid,
-    _price,
-    _search_work,
-)
+from walkmath.reviewcheapest import _cells, _policy_grid, _price
+from walkmath.reviewlevels import _at_gap, _base_stock_bound, _inside, _lost_solves_work, _order_up_to_grid
+from walkmath.reviewshared import MEASURES, _search_work
 from walkmath.steplaw import StepLaw
 
 

@@ -190,7 +190,7 @@ def test_search_mean_short_is_each_policy_s_own(lead_time, unmet):
 def test_gap_curves_equal_each_gap_on_its_own(demand, lead_time, unmet):
     # The best-policy grid adds one shifted copy per gap (mixture linearity); each gap's curves must
     # equal the direct convolutions of that gap's own drop law, tails included.
-    from walkmath.reviewdesign import _Shared
+    from walkmath.reviewshared import _Shared
 
     top, gaps = 160, range(1, 21)
     shared = _Shared(demand, lead_time, unmet, top, max(gaps))

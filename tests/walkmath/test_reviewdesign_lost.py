@@ -1,6 +1,6 @@
 """Order-up-to search with lost sales and a lead time: the bisection and its curve (walkmath/reviewdesign.py).
 
-The search rests on two facts proved in the module's docstring (service grows with S; lost sales serve at
+The search rests on two facts proved in walkmath/reviewlevels.py's docstring (service grows with S; lost sales serve at
 least as well as backorders at the same S). Both are checked here on the literal chain in exact fractions
 (tests/walkmath/exact.py, built independently of the engine), as are the answers and every point of the curve.
 """
@@ -243,7 +243,7 @@ def test_order_up_to_curve_with_a_larger_gap_equals_one_solve_per_level(mean, le
 @settings(max_examples=10, deadline=None)
 @given(mean=st.floats(0.3, 2.0), lead_time=st.integers(1, 2), top=st.integers(2, 12))
 def test_order_up_to_curve_from_the_stack_is_monotone_in_the_level(mean, lead_time, top):
-    # Fact 1 of walkmath/reviewdesign.py's docstring (service grows with S for an order-up-to policy),
+    # Fact 1 of walkmath/reviewlevels.py's docstring (service grows with S for an order-up-to policy),
     # checked on the raw stacked solves, with no running max or min applied: differences >= 0. Read on
     # the quantities kept with relative accuracy (stock-out, unfilled share, units short), whose true
     # values fall by a clear factor per unit of Poisson demand, and the mean on hand (about a unit apart).

@@ -267,7 +267,7 @@ class ReorderJob(Job):
                 law, lead, p.unmet, gap=gap, top=top, target=target, measure=p.measure, include=include
             ).units
             if gap == 1 and target is not None:
-                # Lost sales meet the target by the backorder answer (walkmath/reviewdesign.py, fact 2): the
+                # Lost sales meet the target by the backorder answer (walkmath/reviewlevels.py, fact 2): the
                 # chosen level is at most that; the search's own pricing runs the same cheap search.
                 back = wm.smallest_order_up_to(law, target, p.measure, lead, "backorder", gap=1, top=top)
                 chosen = back.answer if back.answer is not None else top
