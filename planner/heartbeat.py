@@ -65,3 +65,10 @@ def tasks_taken_before(task, task_ids: Iterable[str]) -> set[str]:
         return set()
     taken = DBTaskResult.objects.filter(id__in=task_ids, started_at__lt=timezone.now() - lease())
     return {str(task_id) for task_id in taken.exclude(status="READY").values_list("id", flat=True)}
+
+
+def queue_of(task, task_id: str, default: str) -> str:
+    """The queue the task ``task_id`` (of ``task``) was put on, or ``default`` when the backend cannot say."""
+    if not task_id or not isinstance(task.get_backend(), DatabaseBackend):
+        return default
+    return DBTaskResult.objects.filter(id=task_id).values_list("queue_name", flat=True).first() or default

@@ -33,7 +33,7 @@ from django.db import transaction
 from django.utils import timezone
 from django_tasks import DEFAULT_TASK_QUEUE_NAME, TaskContext, default_task_backend, task
 
-from planner.heartbeat import Heartbeat, tasks_taken_before
+from planner.heartbeat import Heartbeat, queue_of, tasks_taken_before
 from planner.portfolio import items as item_specs
 from planner.portfolio import services
 from planner.portfolio.models import OPEN_STATUSES, PortfolioChunk, PortfolioResult, PortfolioRun
@@ -58,9 +58,15 @@ def requeue_stale(run: PortfolioRun) -> int:
     """Queue again the chunks of ``run`` whose worker went silent, and those whose task a worker took and
     then died before claiming the chunk; how many."""
     again = services.chunks_requeue_stale(run=run, lost=_lost_chunks(run))
-    priced = set(PortfolioChunk.objects.filter(pk__in=again, priced=True).values_list("pk", flat=True)) if again else ()
-    stage = {chunk_id: work_out_chunk if chunk_id in priced else price_chunk for chunk_id in again}
-    services.chunks_mark_queued(tasks={chunk_id: stage[chunk_id].enqueue(chunk_id).id for chunk_id in again})
+    if not again:
+        return 0
+    chunks = PortfolioChunk.objects.filter(pk__in=again).values_list("pk", "priced", "task_id")
+    queued = {}
+    for chunk_id, priced, task_id in chunks:  # each at its stage, on the queue its run was given
+        queue = queue_of(work_out_chunk, task_id, DEFAULT_TASK_QUEUE_NAME)
+        stage = (work_out_chunk if priced else price_chunk).using(queue_name=queue)
+        queued[chunk_id] = stage.enqueue(chunk_id).id
+    services.chunks_mark_queued(tasks=queued)
     return len(again)
 
 

@@ -200,6 +200,20 @@ def test_a_silent_chunk_is_handed_out_again_at_the_stage_it_was_at(owner, settin
     assert run.status == RunStatus.FINISHED and PortfolioResult.objects.filter(run=run, answered=True).count() == 12
 
 
+def test_a_silent_chunk_goes_back_on_its_runs_queue(owner, settings):
+    settings.TASKS = {"default": {"BACKEND": "django_tasks_db.DatabaseBackend", "QUEUES": ["default", "benchmark"]}}
+    run = services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0))
+    run = services.run_start(run=run, queue_name="benchmark")
+    chunk = run.chunks.first()
+    assert services.chunk_claim(chunk_id=chunk.pk, priced=False) is not None  # its pricing worker dies
+    silent = timezone.now() - datetime.timedelta(seconds=settings.PORTFOLIO_LEASE_SECONDS + 1)
+    PortfolioChunk.objects.filter(pk=chunk.pk).update(heartbeat=silent)
+    assert tasks.requeue_stale(run) == 1
+    chunk.refresh_from_db()
+    again = DBTaskResult.objects.get(id=chunk.task_id)
+    assert again.queue_name == "benchmark" and again.task_path == tasks.price_chunk.module_path
+
+
 def test_a_task_taken_by_a_worker_that_died_before_claiming_its_chunk_is_queued_again(owner, settings):
     run = services.run_start(run=services.run_create(owner=owner, title="Shelf", parsed=parsed(bad=0)))
     chunk = run.chunks.first()
