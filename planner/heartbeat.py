@@ -56,6 +56,14 @@ class Heartbeat:
             connection.close()
 
 
+def seconds_left(started: datetime.datetime | None, done: float, total: float) -> float | None:
+    """The time left at the pace so far: ``done`` of ``total`` (rows, or priced work units) since
+    ``started``; None before anything is done, or once all of it is."""
+    if started is None or not 0 < done < total:
+        return None
+    return (timezone.now() - started).total_seconds() * (total - done) / done
+
+
 def tasks_taken_before(task, task_ids: Iterable[str]) -> set[str]:
     """Those of ``task_ids`` (tasks of ``task``) that a worker took more than a lease ago and that have not
     finished well: the database queue keeps such a task "running" forever when its worker dies. Asked in

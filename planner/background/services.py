@@ -23,7 +23,7 @@ from django.utils import timezone
 from planner import reading
 from planner.background import tasks
 from planner.background.models import OPEN_WORK, BackgroundReading, WorkStatus
-from planner.heartbeat import lease
+from planner.heartbeat import lease, seconds_left
 from planner.kinds import get_kind
 from planner.models import Scenario, ScenarioVersion
 from planner.reading import Reading, saved_params
@@ -199,10 +199,7 @@ def stored_reading(*, work: BackgroundReading, scenario: Scenario) -> Reading | 
 def work_progress_view(work: BackgroundReading) -> dict:
     """The progress as the shared progress bar reads it: status, share done and the time left at the pace
     so far (from the engine's cost model: the parts done against all the parts priced)."""
-    left = None
-    if work.status == WorkStatus.RUNNING and work.started and 0 < work.units_done < work.units:
-        elapsed = (timezone.now() - work.started).total_seconds()
-        left = elapsed * (work.units - work.units_done) / work.units_done
+    left = seconds_left(work.started, work.units_done, work.units) if work.status == WorkStatus.RUNNING else None
     percent = 100.0 if work.status == WorkStatus.DONE else 100.0 * min(work.units_done / max(work.units, 1), 1.0)
     return {
         "status": work.status,

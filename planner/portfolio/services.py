@@ -21,7 +21,7 @@ from django.db.models import Q, Sum
 from django.utils import timezone
 
 from planner import json_text
-from planner.heartbeat import lease
+from planner.heartbeat import lease, seconds_left
 from planner.portfolio import items as item_specs
 from planner.portfolio.items_file import ItemsFile
 from planner.portfolio.models import (
@@ -326,10 +326,8 @@ def run_progress(run: PortfolioRun) -> dict:
     sums = run.chunks.aggregate(answered=Sum("answered"), unanswered=Sum("unanswered"))
     answered, unanswered = sums["answered"] or 0, sums["unanswered"] or 0
     done = answered + unanswered + (run.refused if run.status != RunStatus.READY else 0)
-    left = None
-    if run.status in OPEN_STATUSES and run.started and answered + unanswered:
-        elapsed = (timezone.now() - run.started).total_seconds()
-        left = elapsed * (run.queued - answered - unanswered) / (answered + unanswered)
+    worked = answered + unanswered
+    left = seconds_left(run.started, worked, run.queued) if run.status in OPEN_STATUSES else None
     return {
         "status": run.status,
         "status_text": run.get_status_display(),
