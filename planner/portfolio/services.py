@@ -194,9 +194,7 @@ def chunk_claim(*, chunk_id: int, priced: bool) -> list[PortfolioItem] | None:
     now = timezone.now()
     with transaction.atomic():
         chunk = PortfolioChunk.objects.select_for_update().filter(pk=chunk_id).select_related("run").first()
-        if chunk is None or chunk.priced != priced:
-            return None
-        if chunk.status in ENDED_CHUNKS:
+        if chunk is None or chunk.priced != priced or chunk.status in ENDED_CHUNKS:
             return None
         if chunk.run.status == RunStatus.CANCELLED:
             chunk.status = ChunkStatus.CANCELLED

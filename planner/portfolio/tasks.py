@@ -60,13 +60,11 @@ def requeue_stale(run: PortfolioRun) -> int:
     again = services.chunks_requeue_stale(run=run, lost=_lost_chunks(run))
     if not again:
         return 0
-    chunks = PortfolioChunk.objects.filter(pk__in=again).values_list("pk", "priced", "task_id")
-    queued = {}
-    for chunk_id, priced, task_id in chunks:  # each at its stage, on the queue its run was given
-        queue = queue_of(work_out_chunk, task_id, DEFAULT_TASK_QUEUE_NAME)
-        stage = (work_out_chunk if priced else price_chunk).using(queue_name=queue)
-        queued[chunk_id] = stage.enqueue(chunk_id).id
-    services.chunks_mark_queued(tasks=queued)
+    chunks = list(PortfolioChunk.objects.filter(pk__in=again).values_list("pk", "priced", "task_id"))
+    queue = queue_of(work_out_chunk, chunks[0][2], DEFAULT_TASK_QUEUE_NAME)  # one queue a run: its start's
+    stages = {False: price_chunk.using(queue_name=queue), True: work_out_chunk.using(queue_name=queue)}
+    tasks = {chunk_id: stages[priced].enqueue(chunk_id).id for chunk_id, priced, _ in chunks}  # each at its stage
+    services.chunks_mark_queued(tasks=tasks)
     return len(again)
 
 
